@@ -103,6 +103,9 @@ export function backTransform(spectrum: ComplexSpectrum, settings: BackSettings)
     re[j] = spectrum.re[j] * window[j];
     im[j] = spectrum.im[j] * window[j];
   }
+  // R = 0 is the edge of the half-range: it counts once, not twice, in the doubled sum below
+  re[0] *= 0.5;
+  im[0] *= 0.5;
   fftInPlace(re, im, -1);
   // The forward transform holds only the positive-R half, so the back sum over R_j >= 0 gives
   // half of the real signal's analytic pair; the factor 2 restores Re(chi(q)) = k^w chi(k).
