@@ -1,7 +1,11 @@
 /** Every CLI command, in the order `--help` lists them. */
 import type { Command } from 'commander';
 import type { CliIo } from '../io';
+import { registerShells } from './shells';
+import { registerSimulate } from './simulate';
+import { registerDemo } from './demo';
+import { registerReduce } from './reduce';
 
 export type RegisterCommand = (program: Command, io: CliIo) => void;
 
-export const COMMANDS: RegisterCommand[] = [];
+export const COMMANDS: RegisterCommand[] = [registerReduce, registerShells, registerSimulate, registerDemo];
