@@ -4,8 +4,7 @@ import type { CliIo } from '../io';
 import { registerShells } from './shells';
 import { registerSimulate } from './simulate';
 import { registerDemo } from './demo';
-import { registerReduce } from './reduce';
 
 export type RegisterCommand = (program: Command, io: CliIo) => void;
 
-export const COMMANDS: RegisterCommand[] = [registerReduce, registerShells, registerSimulate, registerDemo];
+export const COMMANDS: RegisterCommand[] = [registerShells, registerSimulate, registerDemo];
