@@ -26,6 +26,7 @@ interface SimulateCliOptions extends StructureCliOptions {
   taper: string;
   rmax?: string;
   provider: string;
+  cache: boolean;
   json?: boolean;
   out?: string;
 }
@@ -109,12 +110,13 @@ export function registerSimulate(program: Command, io: CliIo): void {
     .option('--k-window <min:max>', 'k range of the Fourier transform window, 1/Å', '3:14')
     .option('--window <shape>', `window shape (${WINDOW_SHAPES.join(', ')})`, 'hann')
     .option('--taper <width>', 'window taper width, 1/Å', '1')
-    .option('--provider <name>', 'scattering provider', DEFAULT_PROVIDER)
+    .option('--provider <name>', 'scattering provider (firstPrinciples, or parametric: approximate, for tests)', DEFAULT_PROVIDER)
+    .option('--no-cache', 'recompute scattering functions instead of reading the on-disk cache')
     .option('--json', 'write JSON instead of CSV')
     .option('--out <file>', 'write to this file instead of the terminal')
     .action((file: string, raw: SimulateCliOptions) => {
       const o = parseStructureOptions(raw);
-      const providers = defaultProviders();
+      const providers = defaultProviders({ cache: raw.cache });
       const provider = providers.get(raw.provider);
       if (!(WINDOW_SHAPES as readonly string[]).includes(raw.window)) {
         throw new InputError(`unknown window '${raw.window}' (expected one of ${WINDOW_SHAPES.join(', ')})`, { key: '--window' });
