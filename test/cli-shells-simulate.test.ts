@@ -76,7 +76,7 @@ describe('shellrank simulate', () => {
     const dir = tmp();
     const file = join(dir, 'cu.cif');
     writeFileSync(file, cuCif);
-    const run = await cli(['simulate', file, '--absorber', 'Cu', '--debye-temp', '315', '--temp', '295', '--json', '--rmax', '3']);
+    const run = await cli(['simulate', file, '--absorber', 'Cu', '--debye-temp', '315', '--temp', '295', '--json', '--rmax', '3', '--provider', 'parametric']);
     expect(run.code).toBe(0);
     const doc = JSON.parse(run.stdout);
     expect(doc.paths[0].msrd).toBeGreaterThan(0.008);

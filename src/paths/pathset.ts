@@ -63,7 +63,8 @@ export function groupShells(clusters: readonly Cluster[], options: ShellOptions 
   if (!(totalWeight > 0)) throw new InputError('the absorber sites have zero total occupancy');
   const bySpecies = new Map<string, Member[]>();
   for (const cluster of clusters) {
-    const w = cluster.absorber.weight / totalWeight;
+    // raw weights, divided by the total once per shell, so integer counts stay exact
+    const w = cluster.absorber.weight;
     for (let i = 0; i < cluster.distances.length; i++) {
       const occ = cluster.occupancy[i];
       if (occ <= 0) continue;
@@ -86,7 +87,7 @@ export function groupShells(clusters: readonly Cluster[], options: ShellOptions 
       }
       const r = sum / n;
       for (let i = start; i < end; i++) sum2 += members[i].weight * (members[i].d - r) ** 2;
-      shells.push({ kind: 'single', legs: 2, scatterer: species, r, degeneracy: n, spread: Math.sqrt(sum2 / n) });
+      shells.push({ kind: 'single', legs: 2, scatterer: species, r, degeneracy: n / totalWeight, spread: Math.sqrt(sum2 / n) });
       start = end;
     }
   }

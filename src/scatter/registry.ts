@@ -4,10 +4,20 @@
  */
 import { ProviderRegistry } from './provider';
 import { parametricProvider } from './parametric';
+import { FIRST_PRINCIPLES_PROVIDER_NAME, firstPrinciplesProvider } from './provider-first-principles';
 
 /** Name of the provider used when none is asked for. */
-export const DEFAULT_PROVIDER = 'parametric';
+export const DEFAULT_PROVIDER = FIRST_PRINCIPLES_PROVIDER_NAME;
 
-export function defaultProviders(): ProviderRegistry {
-  return new ProviderRegistry().register(parametricProvider);
+export interface ProviderOptions {
+  /** Use the on-disk cache of first-principles tables (default true). */
+  cache?: boolean;
+  /** Cache folder (default: $SHELLRANK_CACHE_DIR, $XDG_CACHE_HOME/shellrank or ~/.cache/shellrank). */
+  cacheDir?: string;
+}
+
+export function defaultProviders(options: ProviderOptions = {}): ProviderRegistry {
+  return new ProviderRegistry()
+    .register(firstPrinciplesProvider({ cache: options.cache, cacheDir: options.cacheDir }))
+    .register(parametricProvider);
 }

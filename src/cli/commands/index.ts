@@ -4,7 +4,9 @@ import type { CliIo } from '../io';
 import { registerShells } from './shells';
 import { registerSimulate } from './simulate';
 import { registerDemo } from './demo';
+import { registerReduce } from './reduce';
+import { registerScatter } from './scatter';
 
 export type RegisterCommand = (program: Command, io: CliIo) => void;
 
-export const COMMANDS: RegisterCommand[] = [registerShells, registerSimulate, registerDemo];
+export const COMMANDS: RegisterCommand[] = [registerReduce, registerShells, registerSimulate, registerScatter, registerDemo];
