@@ -11,6 +11,7 @@ import type { PathSet, ScatteringPath } from '../paths/pathset';
 import type { ScatteringProvider, ScatteringTable } from '../scatter/provider';
 import { correlatedDebyeMsrd, einsteinMsrd, reducedMass } from './disorder';
 import { evaluateModel, type ModelParameters } from './exafs';
+import { tablesForPaths } from './tables';
 
 /** How sigma^2 is set for every path. */
 export type DisorderSpec =
@@ -71,10 +72,7 @@ export function simulateSpectrum(pathSet: PathSet, provider: ScatteringProvider,
   const rMax = settings.rMax ?? null;
   const included = pathSet.paths.filter((p) => rMax === null || p.r <= rMax);
   if (included.length === 0) throw new InputError(`no shell lies within ${rMax} Å of the absorber`, { key: '--rmax' });
-  // tables on the provider's own grid 0..max(20, kMax) so e0 shifts can be interpolated
-  const tableGrid = uniformGrid(0, Math.max(20, kMax) + 1, 0.05);
-  const tables = included.map((p) =>
-    provider.compute({ absorber: pathSet.absorber, scatterer: p.scatterer, edge: pathSet.edge, distance: p.r, k: tableGrid, environment: pathSet.environment }));
+  const tables = tablesForPaths(pathSet, included, provider, kMax);
   const paths = included.map((p) => ({ ...p, msrd: pathMsrd(settings.disorder, pathSet.absorber, p) }));
   const params: ModelParameters = {
     amp,

@@ -6,7 +6,9 @@ import { registerSimulate } from './simulate';
 import { registerDemo } from './demo';
 import { registerReduce } from './reduce';
 import { registerScatter } from './scatter';
+import { registerReport } from './report';
+import { registerFit } from './fit';
 
 export type RegisterCommand = (program: Command, io: CliIo) => void;
 
-export const COMMANDS: RegisterCommand[] = [registerReduce, registerShells, registerSimulate, registerScatter, registerDemo];
+export const COMMANDS: RegisterCommand[] = [registerReduce, registerShells, registerSimulate, registerScatter, registerFit, registerReport, registerDemo];

@@ -1,0 +1,124 @@
+/** `shellrank fit DATA STRUCTURE --absorber EL`: refine one structure against one spectrum. */
+import type { Command } from 'commander';
+import { ComputationError, InputError } from '../../core/errors';
+import { readTextFile } from '../../core/files';
+import { loadStructureFile, pickFrame } from '../../read/load-structure';
+import { shellsOfStructure } from '../../paths/index';
+import { defaultProviders, DEFAULT_PROVIDER } from '../../scatter/registry';
+import { loadChiOrReduce } from '../../fit/exafs/data';
+import { fitStructure, DEFAULT_FIT_SETTINGS, type StructureFitSettings } from '../../fit/exafs/fit-structure';
+import { fitDocument } from '../../fit/exafs/document';
+import { FIT_SPACES, type FitSpace } from '../../fit/exafs/problem';
+import type { CliIo } from '../io';
+import { emit, textTable, toJson } from '../output';
+import { parseInteger, parseNumber, parseRange } from '../options';
+import { addStructureOptions, parseStructureOptions, type StructureCliOptions } from './structure-options';
+
+export interface FitCliOptions extends StructureCliOptions {
+  k: string;
+  r: string;
+  kw: string;
+  space: string;
+  amp: string;
+  ampFrom?: string;
+  starts: string;
+  provider: string;
+  cache: boolean;
+  json?: boolean;
+  out?: string;
+}
+
+/** Add the options shared by fit and rank. */
+export function addFitOptions(command: Command): Command {
+  return command
+    .option('--k <min:max>', 'k range of the fit, 1/Å', `${DEFAULT_FIT_SETTINGS.kRange[0]}:${DEFAULT_FIT_SETTINGS.kRange[1]}`)
+    .option('--r <min:max>', 'R range of the fit, Å', `${DEFAULT_FIT_SETTINGS.rRange[0]}:${DEFAULT_FIT_SETTINGS.rRange[1]}`)
+    .option('--kw <weights>', 'k-weight, or several separated by commas (e.g. 1,2,3)', '2')
+    .option('--space <space>', `fit space: ${FIT_SPACES.join(', ')}`, DEFAULT_FIT_SETTINGS.space)
+    .option('--amp <value>', "S0^2: a fixed value, or 'free'", String(DEFAULT_FIT_SETTINGS.amp))
+    .option('--amp-from <fit.json>', 'fix S0^2 at the value of an earlier fit of a reference compound')
+    .option('--starts <n>', 'number of starts (more than 1 adds seeded random starts)', '1')
+    .option('--provider <name>', 'scattering provider', DEFAULT_PROVIDER)
+    .option('--no-cache', 'recompute scattering functions instead of reading the on-disk cache');
+}
+
+/** S0^2 from an earlier fit document. */
+export function ampFromFit(path: string): number {
+  const text = readTextFile(path);
+  let doc: { params?: { amp?: { value?: unknown } } };
+  try {
+    doc = JSON.parse(text);
+  } catch {
+    throw new InputError('is not a JSON fit result', { file: path, key: '--amp-from' });
+  }
+  const value = doc?.params?.amp?.value;
+  if (typeof value !== 'number' || !Number.isFinite(value)) throw new InputError('has no params.amp.value (is it a shellrank fit result?)', { file: path, key: '--amp-from' });
+  return value;
+}
+
+export function parseFitOptions(raw: FitCliOptions): StructureFitSettings {
+  if (!(FIT_SPACES as readonly string[]).includes(raw.space)) throw new InputError(`unknown fit space '${raw.space}' (expected ${FIT_SPACES.join(', ')})`, { key: '--space' });
+  const kWeights = raw.kw.split(',').map((w) => parseNumber('--kw', w, { min: 0, max: 4 }));
+  let amp: number | 'free';
+  if (raw.ampFrom !== undefined) amp = ampFromFit(raw.ampFrom);
+  else amp = raw.amp === 'free' ? 'free' : parseNumber('--amp', raw.amp, { min: 0, exclusiveMin: true });
+  return {
+    ...DEFAULT_FIT_SETTINGS,
+    kRange: parseRange('--k', raw.k),
+    rRange: parseRange('--r', raw.r),
+    kWeights,
+    space: raw.space as FitSpace,
+    amp,
+    starts: parseInteger('--starts', raw.starts, 1),
+  };
+}
+
+function fmt(x: number, digits: number): string {
+  return Number.isFinite(x) ? x.toFixed(digits) : '—';
+}
+
+export function registerFit(program: Command, io: CliIo): void {
+  addFitOptions(addStructureOptions(
+    program.command('fit')
+      .description('refine one structure against one measured spectrum (raw beamline file or saved reduction)')
+      .argument('<data>', 'measured spectrum: XDI, columns, or a shellrank-chi JSON from `reduce --out`')
+      .argument('<structure>', 'structure file (XYZ, extended XYZ, CIF, PDB)'),
+  ))
+    .option('--json', 'write the fit as JSON')
+    .option('--out <file>', 'write to this file instead of the terminal')
+    .action((dataFile: string, structureFile: string, raw: FitCliOptions) => {
+      const o = parseStructureOptions(raw);
+      const settings = parseFitOptions(raw);
+      const provider = defaultProviders({ cache: raw.cache }).get(raw.provider);
+      const data = loadChiOrReduce(dataFile);
+      const loaded = loadStructureFile(structureFile, { format: o.format });
+      const structure = pickFrame(loaded, o.frame);
+      const set = shellsOfStructure(structure, { absorber: o.absorber, radius: o.radius, tolerance: o.tolerance, edge: o.edge, structureHash: loaded.sha256 });
+      const result = fitStructure(data.chi, set, provider, settings, [
+        { role: 'data', file: dataFile, sha256: data.sha256 },
+        { role: 'structure', file: structureFile, sha256: loaded.sha256 },
+      ], dataFile);
+      const doc = fitDocument(result, { data, structure: { file: structureFile, sha256: loaded.sha256, absorber: set.absorber, sites: set.sites, frame: o.frame } });
+      if (raw.json) {
+        emit(io, toJson(doc, 10), raw.out, [dataFile, structureFile]);
+      } else {
+        const s = result.stats;
+        const lines = [
+          `fit of ${structureFile} to ${dataFile} (${set.absorber} ${set.edge} edge, ${settings.space} space, k ${settings.kRange.join('-')} 1/Å, R ${settings.rRange.join('-')} Å, k-weight ${settings.kWeights.join(',')})`,
+          data.reducedHere ? `data reduced here with default settings: E0 = ${data.chi.e0.toFixed(2)} eV, edge step ${data.chi.edgeStep.toPrecision(4)}` : 'data: saved reduction',
+          `status: ${result.status.code} after ${result.status.iterations} iterations (${result.status.message})`,
+          `R-factor ${fmt(s.rFactor, 5)}  reduced chi-square ${fmt(s.reducedChiSquare, 2)}  independent points ${fmt(s.nIndependent, 1)}  varied ${s.nVaried}`,
+          '',
+          textTable(['parameter', 'value', 'error', 'state'], Object.entries(result.params).filter(([n]) => n === 'amp' || n === 'e0').map(([n, p]) => [n, fmt(p.value, 4), fmt(p.error, 4), p.state])),
+          textTable(['shell', 'species', 'n', 'r (Å)', '± r', 'r0 (Å)', 'msrd (Å^2)', '± msrd'], result.shells.map((sh) => [
+            sh.id, sh.species, fmt(sh.n.value, 2), fmt(sh.r.value, 4), fmt(sh.r.error, 4), fmt(sh.r0, 4), fmt(sh.msrd.value, 5), fmt(sh.msrd.error, 5)])),
+          ...result.warnings.map((w) => `warning: ${w}`),
+          ...result.recipe.map((r) => `recipe: ${r}`),
+        ];
+        emit(io, lines.join('\n') + '\n', raw.out, [dataFile, structureFile]);
+      }
+      if (!result.status.converged) {
+        throw new ComputationError(`the fit of ${structureFile} to ${dataFile} did not converge: ${result.status.message}${raw.out ? ` (result written to ${raw.out})` : ''}`);
+      }
+    });
+}

@@ -1,0 +1,56 @@
+/**
+ * The JSON document of a fit (the `fit --json` output, documented in the README):
+ *   { "stats": {rFactor, chiSquare, reducedChiSquare, nIndependent, nVaried, nPoints, degreesOfFreedom, aic, bic},
+ *     "params": {"amp": {value, error, state}, "e0": {...}, ...every user parameter},
+ *     "shells": [{species, id, n, r: {value, error}, r0, msrd: {value, error}, c3, c4}],
+ *     "correlations": [{a, b, value}], "warnings": [...], "recipe": [...],
+ *     "status": {code, converged, message, iterations, evaluations},
+ *     "data": {file, sha256, reducedHere, e0, edgeStep, noise}, "structure": {file, sha256, absorber, sites},
+ *     "curves": [{name, k, data, model, perPath: {id: [...]}}], "settings": {...}, "provenance": {...} }
+ * `n` of a shell is a plain number when fixed, {value, error} when varied or tied.
+ */
+import type { LoadedChi } from './data';
+import type { StructureFitResult } from './fit-structure';
+
+export interface FitDocumentContext {
+  data: LoadedChi;
+  structure: { file: string; sha256: string; absorber: string; sites: number; frame?: number };
+}
+
+export function fitDocument(result: StructureFitResult, context: FitDocumentContext) {
+  const { chi } = context.data;
+  return {
+    format: 'shellrank-fit',
+    formatVersion: 1,
+    stats: result.stats,
+    params: result.params,
+    shells: result.shells.map((s) => ({
+      id: s.id,
+      species: s.species,
+      n: s.n.error === 0 ? s.n.value : s.n,
+      r0: s.r0,
+      r: s.r,
+      msrd: s.msrd,
+      c3: s.c3,
+      c4: s.c4,
+    })),
+    correlations: result.correlations,
+    warnings: result.warnings,
+    recipe: result.recipe,
+    status: result.status,
+    data: {
+      file: context.data.file, sha256: context.data.sha256, reducedHere: context.data.reducedHere,
+      element: chi.element, edge: chi.edge, e0: chi.e0, edgeStep: chi.edgeStep, noise: chi.noise,
+      reduction: context.data.reducedHere ? chi.info.reduction : undefined,
+    },
+    structure: context.structure,
+    curves: result.curves.map((c) => ({
+      name: c.name, k: c.k, data: c.data, model: c.model,
+      perPath: Object.fromEntries(result.shells.filter((s) => s.dataset === c.name).map((s, i) => [s.id, c.perPath[i]])),
+    })),
+    settings: result.settings,
+    provenance: result.provenance,
+  };
+}
+
+export type FitDocument = ReturnType<typeof fitDocument>;

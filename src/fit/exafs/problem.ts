@@ -1,0 +1,292 @@
+/**
+ * EXAFS refinement: one or more measured chi(k) data sets, each with its scattering paths and
+ * their tables, a set of named parameters (free, fixed, tied) and path rules that say how every
+ * path's n, r, msrd, c3, c4 (and each data set's amp and e0) follow from the parameters.
+ *
+ * Residuals, per data set and k-weight w, divided by the measurement noise of that space so
+ * several data sets and weights combine fairly:
+ * - space 'k': W(k_i) k_i^w (chi_model - chi_data)(k_i) / eps_k,w on the data grid inside the k window;
+ * - space 'r': Re and Im of chi_model(R) - chi_data(R) for R in [rMin, rMax], divided by eps_R / sqrt(2)
+ *   (eps_R is the rms |chi(R)| of pure noise, from Parseval's theorem, so each of Re and Im carries eps_R^2 / 2);
+ * - space 'q': Re chi(q) of the R-filtered difference for q in [kMin, kMax], divided by
+ *   eps_k,w * sqrt(f), f = (integral of W_R^2 dR) / (pi / 2dk), the share of white noise the filter keeps.
+ * eps_k,w = eps_chi * rms(k^w W) over the k window, with eps_chi the per-point noise of chi(k) from
+ * the reduce stage (white-noise model; the noise of the high-R transform, Newville et al.,
+ * Phys. Rev. B 47, 14126 (1993)). The Jacobian is analytic (src/model/exafs.ts), chained through
+ * the parameter map (src/fit/parameters.ts); transforms are linear so they apply column by column.
+ */
+import { InputError } from '../../core/errors';
+import { evaluateModel, type ModelParameters } from '../../model/exafs';
+import { backTransform, forwardTransform } from '../../numeric/fourier';
+import { windowOnGrid, type WindowShape, type WindowSpec } from '../../numeric/window';
+import type { ScatteringTable } from '../../scatter/provider';
+import type { ScatteringPath } from '../../paths/pathset';
+import { defineParameters, type ParameterSet, type ParameterSpec } from '../parameters';
+import { independentPoints } from '../statistics';
+
+export type FitSpace = 'k' | 'r' | 'q';
+export const FIT_SPACES: readonly FitSpace[] = ['k', 'r', 'q'];
+
+/** How one path's quantities follow from the parameters: each an expression (often just a name). */
+export interface PathRule {
+  n: string;
+  r: string;
+  msrd: string;
+  c3: string;
+  c4: string;
+}
+
+export interface FitDataset {
+  /** Name used in messages and output (e.g. the data file). */
+  name: string;
+  /** chi(k) on a uniform grid from 0 (or a multiple of its step). */
+  k: Float64Array;
+  chi: Float64Array;
+  /** Per-point noise of chi(k) (white-noise model), from the reduce stage. */
+  noiseChi: number;
+  paths: readonly ScatteringPath[];
+  tables: readonly ScatteringTable[];
+  rules: readonly PathRule[];
+  /** Expressions for S0^2 and the E0 shift of this data set (default 'amp' and 'e0'). */
+  amp?: string;
+  e0?: string;
+  kRange: [number, number];
+  kWeights: readonly number[];
+  kWindow: { shape: WindowShape; taper: number };
+  rRange: [number, number];
+  rWindow: { shape: WindowShape; taper: number };
+  space: FitSpace;
+}
+
+/** A compiled, ready-to-evaluate refinement problem. */
+export interface ExafsProblem {
+  parameters: ParameterSet;
+  /** Number of user parameters (the first entries of parameters.names). */
+  userParameterCount: number;
+  datasets: CompiledDataset[];
+  nResiduals: number;
+  nIndependent: number;
+  /** residuals(free) and jacobian(free) for the least-squares solver. */
+  residuals(free: Float64Array, out: Float64Array): void;
+  jacobian(free: Float64Array, out: Float64Array): void;
+  /** Curves of every data set at a point (for output and plots). */
+  curves(free: Float64Array): DatasetCurves[];
+  /** The weighted data vector (same layout as residuals), for the R-factor. */
+  data: Float64Array;
+}
+
+export interface CompiledDataset {
+  spec: FitDataset;
+  /** Index into parameters.names of amp, e0 and of each path's n, r, msrd, c3, c4. */
+  ampIndex: number;
+  e0Index: number;
+  pathIndices: Int32Array; // 5 per path
+  /** Model grid: data grid points up to the end of the k window support. */
+  modelK: Float64Array;
+  kWindow: WindowSpec;
+  rWindow: WindowSpec;
+  /** Window values on modelK. */
+  windowK: Float64Array;
+  /** Per k-weight: uniform noise of k^w chi W and, for q space, of the filtered signal. */
+  noise: { kWeight: number; epsK: number; epsR: number; epsQ: number }[];
+  /** Indices of modelK inside [kMin, kMax]. */
+  kInside: Int32Array;
+  /** Indices of the R grid inside [rMin, rMax] (r space). */
+  rInside: Int32Array;
+  /** Offset of this data set in the residual vector and its length. */
+  offset: number;
+  length: number;
+  nIndependent: number;
+}
+
+export interface DatasetCurves {
+  name: string;
+  k: Float64Array;
+  data: Float64Array;
+  model: Float64Array;
+  perPath: Float64Array[];
+}
+
+const QUANTITIES = ['n', 'r', 'msrd', 'c3', 'c4'] as const;
+
+/** Pad the fit window's support by its taper and check the data reach it. */
+function modelGrid(spec: FitDataset): { modelK: Float64Array; kWindow: WindowSpec } {
+  const [kMin, kMax] = spec.kRange;
+  const kWindow: WindowSpec = { shape: spec.kWindow.shape, min: kMin, max: kMax, taper: spec.kWindow.taper };
+  const end = kMax + spec.kWindow.taper / 2;
+  const kLast = spec.k[spec.k.length - 1];
+  // the data may stop up to two grid steps short of the range end (grids rarely land on it)
+  if (kMax > kLast + 2 * (spec.k[1] - spec.k[0]) + 1e-9) {
+    throw new InputError(`the data end at k = ${kLast.toFixed(2)} 1/Å, short of the fit range ${kMin}-${kMax} 1/Å`, { key: '--k', file: spec.name });
+  }
+  if (kMin < spec.k[0]) throw new InputError(`the data start at k = ${spec.k[0]}, above the fit range start ${kMin}`, { key: '--k', file: spec.name });
+  let count = 0;
+  while (count < spec.k.length && spec.k[count] <= end + 1e-9) count++;
+  return { modelK: spec.k.slice(0, count), kWindow };
+}
+
+/** Compile data sets and parameters into an evaluable problem (validates once). */
+export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets: readonly FitDataset[]): ExafsProblem {
+  if (datasets.length === 0) throw new InputError('a fit needs at least one data set');
+  const specs: ParameterSpec[] = [...parameters];
+  const internal = (name: string, expression: string): string => {
+    specs.push({ name, expression, state: 'tied' });
+    return name;
+  };
+  const layout: { amp: string; e0: string; paths: string[] }[] = datasets.map((d, di) => {
+    if (d.paths.length !== d.tables.length || d.paths.length !== d.rules.length) {
+      throw new InputError(`data set ${d.name}: ${d.paths.length} paths, ${d.tables.length} tables and ${d.rules.length} path rules must match`);
+    }
+    if (d.kWeights.length === 0) throw new InputError('at least one k-weight is needed', { key: '--kw' });
+    return {
+      amp: internal(`_d${di}_amp`, d.amp ?? 'amp'),
+      e0: internal(`_d${di}_e0`, d.e0 ?? 'e0'),
+      paths: d.rules.flatMap((rule, pi) => QUANTITIES.map((q) => internal(`_d${di}_p${pi}_${q}`, rule[q]))),
+    };
+  });
+  const set = defineParameters(specs);
+  const compiled: CompiledDataset[] = [];
+  let offset = 0;
+  let nIdp = 0;
+  datasets.forEach((spec, di) => {
+    const { modelK, kWindow } = modelGrid(spec);
+    const [rMin, rMax] = spec.rRange;
+    if (!(rMax > rMin) || rMin < 0) throw new InputError(`bad R range ${rMin}:${rMax}`, { key: '--r' });
+    const rWindow: WindowSpec = { shape: spec.rWindow.shape, min: rMin, max: rMax, taper: spec.rWindow.taper };
+    const windowK = windowOnGrid(kWindow, modelK);
+    const dk = modelK[1] - modelK[0];
+    const kInside = Int32Array.from([...modelK.keys()].filter((i) => modelK[i] >= spec.kRange[0] - 1e-9 && modelK[i] <= spec.kRange[1] + 1e-9));
+    // R grid of a 2048-point transform of this k step
+    const dr = Math.PI / (2048 * dk);
+    const rInside = Int32Array.from(Array.from({ length: 1024 }, (_, j) => j).filter((j) => j * dr >= rMin - 1e-9 && j * dr <= rMax + 1e-9));
+    const rWindowSquared = (() => {
+      let s = 0;
+      for (let j = 0; j < 1024; j++) { const w = windowOnGrid(rWindow, Float64Array.of(j * dr))[0]; s += w * w * dr; }
+      return s;
+    })();
+    const noise = spec.kWeights.map((w) => {
+      let s = 0;
+      for (const i of kInside) s += (Math.pow(modelK[i], w) * windowK[i]) ** 2;
+      const rmsWeight = Math.sqrt(s / kInside.length);
+      const epsK = spec.noiseChi * rmsWeight;
+      // Parseval on the unitary transform: integral |chi(R)|^2 dR over all R (both signs) equals
+      // integral (k^w W eps)^2 dk; a real signal puts half of it at R > 0, spread evenly over
+      // 0..pi/(2 dk) for white noise: rms |chi(R)| = eps * sqrt(sum (k^w W)^2 dk / (2 pi/(2dk)))
+      let sw = 0;
+      for (let i = 0; i < modelK.length; i++) sw += (Math.pow(modelK[i], w) * windowK[i]) ** 2 * dk;
+      const epsR = spec.noiseChi * Math.sqrt(sw / (2 * (Math.PI / (2 * dk))));
+      const epsQ = epsK * Math.sqrt(rWindowSquared / (Math.PI / (2 * dk)));
+      if (!(epsK > 0) || !Number.isFinite(epsK)) throw new InputError(`data set ${spec.name}: the noise estimate ${spec.noiseChi} is not a positive number`);
+      return { kWeight: w, epsK, epsR, epsQ };
+    });
+    const perWeight = spec.space === 'r' ? 2 * rInside.length : kInside.length;
+    const length = perWeight * spec.kWeights.length;
+    const idp = independentPoints(spec.kRange[0], spec.kRange[1], rMin, rMax);
+    nIdp += idp;
+    const pathIndices = Int32Array.from(layout[di].paths.map((n) => set.indexOf(n)));
+    compiled.push({
+      spec, ampIndex: set.indexOf(layout[di].amp), e0Index: set.indexOf(layout[di].e0), pathIndices,
+      modelK, kWindow, rWindow, windowK, noise, kInside, rInside, offset, length, nIndependent: idp,
+    });
+    offset += length;
+  });
+  const nResiduals = offset;
+  const nFree = set.freeNames.length;
+  const nAll = set.names.length;
+
+  const paramsFor = (values: Float64Array, d: CompiledDataset): ModelParameters => ({
+    amp: values[d.ampIndex],
+    e0: values[d.e0Index],
+    paths: d.spec.paths.map((_, pi) => ({
+      n: values[d.pathIndices[5 * pi]], r: values[d.pathIndices[5 * pi + 1]], msrd: values[d.pathIndices[5 * pi + 2]],
+      c3: values[d.pathIndices[5 * pi + 3]], c4: values[d.pathIndices[5 * pi + 4]],
+    })),
+  });
+
+  /** Project a chi-like column (on modelK, unweighted) into the residual layout of a data set. */
+  const project = (d: CompiledDataset, column: Float64Array, out: Float64Array, stride: number, col: number, subtract?: Float64Array): void => {
+    let row = d.offset;
+    for (const noise of d.noise) {
+      const w = noise.kWeight;
+      if (d.spec.space === 'k') {
+        for (const i of d.kInside) {
+          const v = subtract ? column[i] - subtract[i] : column[i];
+          out[row++ * stride + col] = (d.windowK[i] * Math.pow(d.modelK[i], w) * v) / noise.epsK;
+        }
+        continue;
+      }
+      const diff = subtract ? Float64Array.from(column, (v, i) => v - subtract[i]) : column;
+      const spectrum = forwardTransform(d.modelK, diff, { kWeight: w, window: d.kWindow });
+      if (d.spec.space === 'r') {
+        const sigma = noise.epsR / Math.SQRT2;
+        for (const j of d.rInside) out[row++ * stride + col] = spectrum.re[j] / sigma;
+        for (const j of d.rInside) out[row++ * stride + col] = spectrum.im[j] / sigma;
+        continue;
+      }
+      const q = backTransform(spectrum, { window: d.rWindow });
+      for (const i of d.kInside) {
+        // the q grid of the back-transform starts at 0 with the same step as modelK (grid offset handled by index)
+        const qi = Math.round(d.modelK[i] / (d.modelK[1] - d.modelK[0]));
+        out[row++ * stride + col] = q.re[qi] / noise.epsQ;
+      }
+    }
+  };
+
+  const dataCache = compiled.map((d) => d.spec.chi.slice(0, d.modelK.length));
+  const values = new Float64Array(nAll);
+  const data = new Float64Array(nResiduals);
+  compiled.forEach((d, di) => project(d, dataCache[di], data, 1, 0));
+
+  const residuals = (free: Float64Array, out: Float64Array): void => {
+    set.values(free, values);
+    compiled.forEach((d, di) => {
+      const { chi } = evaluateModel(d.modelK, d.spec.tables, paramsFor(values, d));
+      project(d, chi, out, 1, 0, dataCache[di]);
+    });
+  };
+
+  const jacobian = (free: Float64Array, out: Float64Array): void => {
+    set.values(free, values);
+    const g = set.valueJacobian(free); // nAll x nFree
+    out.fill(0);
+    compiled.forEach((d) => {
+      const { derivatives } = evaluateModel(d.modelK, d.spec.tables, paramsFor(values, d), { withDerivatives: true });
+      const dv = derivatives!;
+      const nk = d.modelK.length;
+      // d chi / d free_j = sum over quantities q of (d chi / d q) * G[q, j]
+      const sources: { index: number; column: Float64Array }[] = [
+        { index: d.ampIndex, column: dv.amp },
+        { index: d.e0Index, column: dv.e0 },
+      ];
+      dv.paths.forEach((p, pi) => {
+        sources.push({ index: d.pathIndices[5 * pi], column: p.n });
+        sources.push({ index: d.pathIndices[5 * pi + 1], column: p.r });
+        sources.push({ index: d.pathIndices[5 * pi + 2], column: p.msrd });
+        sources.push({ index: d.pathIndices[5 * pi + 3], column: p.c3 });
+        sources.push({ index: d.pathIndices[5 * pi + 4], column: p.c4 });
+      });
+      const total = new Float64Array(nk);
+      for (let j = 0; j < nFree; j++) {
+        total.fill(0);
+        let any = false;
+        for (const s of sources) {
+          const gij = g[s.index * nFree + j];
+          if (gij === 0) continue;
+          any = true;
+          for (let i = 0; i < nk; i++) total[i] += gij * s.column[i];
+        }
+        if (any) project(d, total, out, nFree, j);
+      }
+    });
+  };
+
+  const curves = (free: Float64Array): DatasetCurves[] => {
+    set.values(free, values);
+    return compiled.map((d, di) => {
+      const { chi, perPath } = evaluateModel(d.modelK, d.spec.tables, paramsFor(values, d), { perPath: true });
+      return { name: d.spec.name, k: d.modelK, data: dataCache[di], model: chi, perPath: perPath as Float64Array[] };
+    });
+  };
+
+  return { parameters: set, userParameterCount: parameters.length, datasets: compiled, nResiduals, nIndependent: nIdp, residuals, jacobian, curves, data };
+}
