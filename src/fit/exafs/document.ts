@@ -6,7 +6,8 @@
  *     "correlations": [{a, b, value}], "warnings": [...], "recipe": [...],
  *     "status": {code, converged, message, iterations, evaluations},
  *     "data": {file, sha256, reducedHere, e0, edgeStep, noise}, "structure": {file, sha256, absorber, sites},
- *     "curves": [{name, k, data, model, perPath: {id: [...]}}], "settings": {...}, "provenance": {...} }
+ *     "curves": {kWeight, k, data, model, window, rRange, shells: [{label, chi}]} (unweighted chi(k) of the first
+ *     data set; "datasetCurves" holds one such record per data set), "settings": {...}, "provenance": {...} }
  * `n` of a shell is a plain number when fixed, {value, error} when varied or tied.
  */
 import type { LoadedChi } from './data';
@@ -44,13 +45,27 @@ export function fitDocument(result: StructureFitResult, context: FitDocumentCont
       reduction: context.data.reducedHere ? chi.info.reduction : undefined,
     },
     structure: context.structure,
-    curves: result.curves.map((c) => ({
-      name: c.name, k: c.k, data: c.data, model: c.model,
-      perPath: Object.fromEntries(result.shells.filter((s) => s.dataset === c.name).map((s, i) => [s.id, c.perPath[i]])),
-    })),
+    // the curves of the (first) data set, in the shape the report stage reads (src/report/types.ts)
+    curves: curvesOf(result, 0),
+    datasetCurves: result.curves.map((_, i) => curvesOf(result, i)),
     settings: result.settings,
     provenance: result.provenance,
   };
 }
 
 export type FitDocument = ReturnType<typeof fitDocument>;
+
+function curvesOf(result: StructureFitResult, index: number) {
+  const c = result.curves[index];
+  const s = result.settings;
+  return {
+    name: c.name,
+    kWeight: s.kWeights[0],
+    k: c.k,
+    data: c.data,
+    model: c.model,
+    window: { shape: s.kWindow.shape, min: s.kRange[0], max: s.kRange[1], taper: s.kWindow.taper },
+    rRange: s.rRange,
+    shells: result.shells.filter((sh) => sh.dataset === c.name).map((sh, i) => ({ label: sh.id, chi: c.perPath[i] })),
+  };
+}
