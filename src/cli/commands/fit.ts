@@ -9,6 +9,8 @@ import { loadChiOrReduce } from '../../fit/exafs/data';
 import { fitStructure, DEFAULT_FIT_SETTINGS, type StructureFitSettings } from '../../fit/exafs/fit-structure';
 import { fitDocument } from '../../fit/exafs/document';
 import { FIT_SPACES, type FitSpace } from '../../fit/exafs/problem';
+import { resolve } from 'node:path';
+import { writeReport } from '../../report/index';
 import type { CliIo } from '../io';
 import { emit, textTable, toJson } from '../output';
 import { parseInteger, parseNumber, parseRange } from '../options';
@@ -22,10 +24,12 @@ export interface FitCliOptions extends StructureCliOptions {
   amp: string;
   ampFrom?: string;
   starts: string;
+  maxIterations: string;
   provider: string;
   cache: boolean;
   json?: boolean;
   out?: string;
+  report?: string;
 }
 
 /** Add the options shared by fit and rank. */
@@ -38,6 +42,7 @@ export function addFitOptions(command: Command): Command {
     .option('--amp <value>', "S0^2: a fixed value, or 'free'", String(DEFAULT_FIT_SETTINGS.amp))
     .option('--amp-from <fit.json>', 'fix S0^2 at the value of an earlier fit of a reference compound')
     .option('--starts <n>', 'number of starts (more than 1 adds seeded random starts)', '1')
+    .option('--max-iterations <n>', 'most Levenberg-Marquardt iterations per fit', '200')
     .option('--provider <name>', 'scattering provider', DEFAULT_PROVIDER)
     .option('--no-cache', 'recompute scattering functions instead of reading the on-disk cache');
 }
@@ -70,6 +75,7 @@ export function parseFitOptions(raw: FitCliOptions): StructureFitSettings {
     space: raw.space as FitSpace,
     amp,
     starts: parseInteger('--starts', raw.starts, 1),
+    maxIterations: parseInteger('--max-iterations', raw.maxIterations, 1),
   };
 }
 
@@ -86,7 +92,8 @@ export function registerFit(program: Command, io: CliIo): void {
   ))
     .option('--json', 'write the fit as JSON')
     .option('--out <file>', 'write to this file instead of the terminal')
-    .action((dataFile: string, structureFile: string, raw: FitCliOptions) => {
+    .option('--report <dir>', 'also write the HTML report, tables and plots into this folder')
+    .action(async (dataFile: string, structureFile: string, raw: FitCliOptions) => {
       const o = parseStructureOptions(raw);
       const settings = parseFitOptions(raw);
       const provider = defaultProviders({ cache: raw.cache }).get(raw.provider);
@@ -116,6 +123,10 @@ export function registerFit(program: Command, io: CliIo): void {
           ...result.recipe.map((r) => `recipe: ${r}`),
         ];
         emit(io, lines.join('\n') + '\n', raw.out, [dataFile, structureFile]);
+      }
+      if (raw.report !== undefined) {
+        const written = await writeReport(JSON.parse(toJson(doc, 10)), resolve(io.cwd, raw.report), { protectedInputs: [dataFile, structureFile].map((f) => resolve(io.cwd, f)) });
+        io.stderr(`wrote ${written.html}\n`);
       }
       if (!result.status.converged) {
         throw new ComputationError(`the fit of ${structureFile} to ${dataFile} did not converge: ${result.status.message}${raw.out ? ` (result written to ${raw.out})` : ''}`);

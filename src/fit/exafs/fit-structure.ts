@@ -8,6 +8,7 @@ import type { PathSet } from '../../paths/pathset';
 import type { ScatteringProvider } from '../../scatter/provider';
 import type { WindowShape } from '../../numeric/window';
 import type { Chi } from '../../reduce/index';
+import { InputError } from '../../core/errors';
 import { buildExafsProblem, type FitSpace } from './problem';
 import { defaultRecipe } from './recipe';
 import { refine, type ExafsFitResult } from './refine';
@@ -22,6 +23,7 @@ export interface StructureFitSettings {
   rWindow: { shape: WindowShape; taper: number };
   pathMargin: number;
   starts: number;
+  maxIterations: number;
 }
 
 export const DEFAULT_FIT_SETTINGS: StructureFitSettings = {
@@ -34,6 +36,7 @@ export const DEFAULT_FIT_SETTINGS: StructureFitSettings = {
   rWindow: { shape: 'hann', taper: 0.5 },
   pathMargin: 0.5,
   starts: 1,
+  maxIterations: 200,
 };
 
 export interface StructureFitResult extends ExafsFitResult {
@@ -43,6 +46,7 @@ export interface StructureFitResult extends ExafsFitResult {
 
 export function fitStructure(chi: Chi, pathSet: PathSet, provider: ScatteringProvider, settings: Partial<StructureFitSettings> = {}, inputs: InputRecord[] = [], name = 'data'): StructureFitResult {
   const s: StructureFitSettings = { ...DEFAULT_FIT_SETTINGS, ...settings };
+  checkEdgeMatches(chi, pathSet, name);
   const recipe = defaultRecipe(pathSet, { rMax: s.rRange[1], pathMargin: s.pathMargin, amp: s.amp });
   const tables = tablesForPaths(pathSet, recipe.paths, provider, s.kRange[1] + s.kWindow.taper);
   const problem = buildExafsProblem(recipe.parameters, [{
@@ -50,6 +54,16 @@ export function fitStructure(chi: Chi, pathSet: PathSet, provider: ScatteringPro
     kRange: s.kRange, kWeights: s.kWeights, kWindow: s.kWindow, rRange: s.rRange, rWindow: s.rWindow, space: s.space,
   }]);
   const used = { ...s, provider: provider.name };
-  const result = refine(problem, { starts: s.starts }, { ...used, recipe: recipe.description }, [...inputs, { role: 'paths', sha256: pathSet.provenance.id }]);
+  const result = refine(problem, { starts: s.starts, maxIterations: s.maxIterations }, { ...used, recipe: recipe.description }, [...inputs, { role: 'paths', sha256: pathSet.provenance.id }]);
   return { ...result, recipe: recipe.description, settings: used };
+}
+
+/** The data's element and edge (when the file states them) must be the model's absorber and edge. */
+export function checkEdgeMatches(chi: Chi, pathSet: PathSet, name: string): void {
+  if (chi.element && chi.element !== pathSet.absorber) {
+    throw new InputError(`the data are a ${chi.element} ${chi.edge ?? ''} spectrum but the model's absorber is ${pathSet.absorber}`.replace('  ', ' '), { file: name, key: '--absorber' });
+  }
+  if (chi.edge && chi.edge !== pathSet.edge) {
+    throw new InputError(`the data are a ${chi.edge} edge but the model uses the ${pathSet.edge} edge`, { file: name, key: '--edge' });
+  }
 }
