@@ -5,19 +5,11 @@ import { invertCell, type Structure } from '../src/structure/structure';
 import {
   CIF_FORMAT, parseCifBlocks, parseCifNumber, parseSymmetryOperation, readCif, writeCif, type SymmetryOperation,
 } from '../src/read/structure/cif';
+import { errorOf } from './helpers/errors';
 
 const FIXTURES = new URL('./fixtures/structures/', import.meta.url).pathname;
 const read = (name: string): Structure => readCif(readFileSync(`${FIXTURES}${name}`, 'utf8'), name)[0];
 
-function errorOf(run: () => unknown): InputError {
-  try {
-    run();
-  } catch (e) {
-    if (e instanceof InputError) return e;
-    throw e;
-  }
-  throw new Error('expected an InputError');
-}
 
 /** Fractional coordinates wrapped into [0, 1), as "Sym u v w" rows sorted, rounded to 1e-4. */
 function sortedFractional(s: Structure): string[] {

@@ -2,6 +2,7 @@ import { describe, it, expect } from 'vitest';
 import { readFileSync } from 'node:fs';
 import { InputError } from '../src/core/errors';
 import { EXTXYZ_FORMAT, parseCommentPairs, readExtxyz, writeExtxyz } from '../src/read/structure/extxyz';
+import { errorOf } from './helpers/errors';
 
 const FIXTURES = new URL('./fixtures/structures/', import.meta.url).pathname;
 const ZNSE_CU = `${FIXTURES}znse-cu.extxyz`;
@@ -9,15 +10,6 @@ const ZNSE_CU = `${FIXTURES}znse-cu.extxyz`;
 const A_ZNSE = 5.6676;
 const A_CU = 3.6149;
 
-function errorOf(run: () => unknown): InputError {
-  try {
-    run();
-  } catch (e) {
-    if (e instanceof InputError) return e;
-    throw e;
-  }
-  throw new Error('expected an InputError');
-}
 
 describe('readExtxyz on the ZnSe + Cu fixture', () => {
   const frames = readExtxyz(readFileSync(ZNSE_CU, 'utf8'), ZNSE_CU);

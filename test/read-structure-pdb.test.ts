@@ -2,20 +2,12 @@ import { describe, it, expect } from 'vitest';
 import { readFileSync } from 'node:fs';
 import { InputError } from '../src/core/errors';
 import { PDB_FORMAT, readPdb } from '../src/read/structure/pdb';
+import { errorOf } from './helpers/errors';
 
 const FIXTURES = new URL('./fixtures/structures/', import.meta.url).pathname;
 // ZnSe a = 5.6676 Å (from memory), written in the fixture as 5.668 (CRYST1 has 3 decimals).
 // fcc Cu a = 3.6149 Å (from memory, Wyckoff).
 
-function errorOf(run: () => unknown): InputError {
-  try {
-    run();
-  } catch (e) {
-    if (e instanceof InputError) return e;
-    throw e;
-  }
-  throw new Error('expected an InputError');
-}
 
 /** One ATOM record in the columns of the wwPDB format description v3.3. */
 function atom(name: string, x: number, y: number, z: number, occupancy: string, element: string): string {

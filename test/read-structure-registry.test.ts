@@ -7,19 +7,11 @@ import { invertCell, makeStructure, type Structure } from '../src/structure/stru
 import {
   STRUCTURE_FORMATS, detectStructureFormat, detectStructureFormatWithReason, readStructureFile, readStructureText,
 } from '../src/read/structure/index';
+import { errorOf } from './helpers/errors';
 
 const FIXTURES = new URL('./fixtures/structures/', import.meta.url).pathname;
 const fixture = (name: string) => readFileSync(`${FIXTURES}${name}`, 'utf8');
 
-function errorOf(run: () => unknown): InputError {
-  try {
-    run();
-  } catch (e) {
-    if (e instanceof InputError) return e;
-    throw e;
-  }
-  throw new Error('expected an InputError');
-}
 
 describe('the structure format registry', () => {
   it('holds extxyz, xyz, cif and pdb with distinct names and extensions', () => {

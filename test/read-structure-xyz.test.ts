@@ -2,6 +2,7 @@ import { describe, it, expect } from 'vitest';
 import { readFileSync } from 'node:fs';
 import { InputError } from '../src/core/errors';
 import { readXyz, writeXyz, XYZ_FORMAT } from '../src/read/structure/xyz';
+import { errorOf } from './helpers/errors';
 
 const FIXTURES = new URL('./fixtures/structures/', import.meta.url).pathname;
 const CU_NACL = `${FIXTURES}cu13-nacl8.xyz`;
@@ -13,15 +14,6 @@ function distance(p: Float64Array, i: number, j: number): number {
   return Math.hypot(p[3 * i] - p[3 * j], p[3 * i + 1] - p[3 * j + 1], p[3 * i + 2] - p[3 * j + 2]);
 }
 
-function errorOf(run: () => unknown): InputError {
-  try {
-    run();
-  } catch (e) {
-    if (e instanceof InputError) return e;
-    throw e;
-  }
-  throw new Error('expected an InputError');
-}
 
 describe('readXyz on the Cu13 + NaCl8 two-frame fixture', () => {
   const frames = readXyz(readFileSync(CU_NACL, 'utf8'), CU_NACL);
