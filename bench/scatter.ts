@@ -5,6 +5,8 @@
  * written); "warm": a second new provider reading the same cache folder. Targets (issue 3): cold
  * < 2 s on one core, warm < 20 ms.
  *
+ * The calculation is single-threaded; to pin it to one core on Linux: taskset -c 0 npx tsx bench/scatter.ts.
+ *
  * Run: npx tsx bench/scatter.ts [--out FILE.json]
  */
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';

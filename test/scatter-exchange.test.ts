@@ -27,7 +27,9 @@ describe('Dirac-Hara exchange', () => {
   });
   it('is weaker (less negative) at higher photoelectron energy', () => {
     const rho = 0.02;
-    expect(selfEnergy(rho, 3)[0]).toBeGreaterThan(selfEnergy(rho, 1)[0]);
+    const dh = { exchange: 'dirac-hara', losses: 'none' } as const;
+    expect(selfEnergy(rho, 3, dh)[0]).toBeGreaterThan(selfEnergy(rho, 1, dh)[0]);
+    expect(selfEnergy(rho, 1, dh)[0]).toBeGreaterThan(selfEnergy(rho, 0, dh)[0]);
   });
 });
 

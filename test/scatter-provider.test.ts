@@ -11,7 +11,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { combineChannels } from '../src/scatter/amplitude';
-import { computeFirstPrinciples, DEFAULT_FIRST_PRINCIPLES_SETTINGS } from '../src/scatter/first-principles';
+import { computeFirstPrinciples, DEFAULT_FIRST_PRINCIPLES_SETTINGS, type ClusterMemo } from '../src/scatter/first-principles';
 import { firstPrinciplesKey, firstPrinciplesProvider, resolveCacheDir } from '../src/scatter/provider-first-principles';
 import type { ScatteringRequest } from '../src/scatter/provider';
 
@@ -57,6 +57,24 @@ describe('firstPrinciples provider and its cache', () => {
     expect(firstPrinciplesKey({ ...cuRequest, environment: undefined }, DEFAULT_FIRST_PRINCIPLES_SETTINGS)).not.toBe(base);
     expect(firstPrinciplesKey({ ...cuRequest, absorber: 'cu' }, DEFAULT_FIRST_PRINCIPLES_SETTINGS)).toBe(base);
   });
+  it('a cluster memo shared by two shells of one environment builds one stage and changes no number', () => {
+    const k = new Float64Array([3, 6, 9, 12]);
+    const environment = {
+      absorber: [{ species: 'Fe', distance: 2.4825, count: 8 }, { species: 'Fe', distance: 2.8665, count: 6 }],
+      scatterers: { Fe: [{ species: 'Fe', distance: 2.4825, count: 8 }, { species: 'Fe', distance: 2.8665, count: 6 }] },
+    };
+    const first: ScatteringRequest = { absorber: 'Fe', scatterer: 'Fe', edge: 'K', distance: 2.4825, k, environment };
+    const second: ScatteringRequest = { ...first, distance: 2.8665 };
+    const memo: ClusterMemo = new Map();
+    const shared = [first, second].map((r) => computeFirstPrinciples(r, DEFAULT_FIRST_PRINCIPLES_SETTINGS, undefined, memo));
+    expect(memo.size).toBe(1);
+    const alone = [first, second].map((r) => computeFirstPrinciples(r));
+    for (let j = 0; j < 2; j++) {
+      expect(Array.from(shared[j].amplitude)).toEqual(Array.from(alone[j].amplitude));
+      expect(Array.from(shared[j].phase)).toEqual(Array.from(alone[j].phase));
+      expect(Array.from(shared[j].meanFreePath)).toEqual(Array.from(alone[j].meanFreePath));
+    }
+  });
   it('with cache: false writes nothing', () => {
     const empty = mkdtempSync(join(tmpdir(), 'shellrank-scatter-nocache-'));
     firstPrinciplesProvider({ cacheDir: empty, cache: false }).compute({ ...cuRequest, k: new Float64Array([3, 4, 5]) });
@@ -92,7 +110,9 @@ describe('phase convention and physical shape', () => {
     }
   });
   const peakK = (scatterer: string, distance: number) => {
-    const k = new Float64Array(151).map((_, i) => 3 + i * 0.1); // 3-18 1/Å
+    // 3-18 1/Å in steps of 0.02: O and S both peak near 3.2 1/Å, within 0.1 1/Å of each other, so the
+    // grid must resolve less than that for the order to be seen at all
+    const k = new Float64Array(751).map((_, i) => 3 + i * 0.02);
     const r = computeFirstPrinciples({
       absorber: 'Cu', scatterer, edge: 'K', distance, k,
       environment: { absorber: [{ species: scatterer, distance, count: 6 }], scatterers: { [scatterer]: [{ species: 'Cu', distance, count: 6 }] } },

@@ -1,45 +1,53 @@
 /**
  * Energy-dependent exchange-correlation (self-energy) of the photoelectron in a local-density
  * picture: at each point the electron sees the self-energy of a homogeneous electron gas of the local
- * density rho(r), evaluated at the local momentum p(r) = sqrt(k^2 + k_F(r)^2), where k is the
- * photoelectron wave number in the interstitial and k_F = (3 pi^2 rho)^(1/3) (hartree atomic units).
+ * density rho(r), evaluated at the local momentum p(r) = sqrt(k^2 + k_F(r)^2), where k^2 / 2 is the
+ * photoelectron's energy above the Fermi level (the same everywhere) and k_F = (3 pi^2 rho)^(1/3)
+ * (hartree atomic units). This is the local-density use of the electron-gas self-energy of Hedin and
+ * Lundqvist (J. Phys. C 4, 2064 (1971)).
+ *
+ * Real part, model 'hedin-lundqvist' (the default): the GW self-energy of the electron gas with
+ * Lundqvist's single-plasmon-pole screening, exchange plus correlation, evaluated on shell
+ * (./hedin-lundqvist derives and computes it). At the Fermi level it is close to the LDA
+ * exchange-correlation potential; it tends to zero at high energy.
  *
  * Real part, model 'dirac-hara': the Dirac-Hara exchange (Hara, J. Phys. Soc. Japan 22, 710 (1967);
  * the Hartree-Fock exchange of the electron gas at momentum p, Slater, Phys. Rev. 81, 385 (1951)):
  *   Re Sigma = -(k_F / pi) [ 1 + (1 - x^2) / (2x) ln |(1 + x) / (1 - x)| ],   x = p / k_F,
  * equal to the Kohn-Sham exchange -(3 rho / pi)^(1/3) at the Fermi level (x = 1) and falling off
- * as -2 k_F^3 / (3 pi p^2) at high energy. Model 'ground-state-lda' uses the energy-independent LDA
- * exchange-correlation potential instead (for comparison). No correlation is added to Dirac-Hara.
+ * as -2 k_F^3 / (3 pi p^2) at high energy. It is the exchange part of the Hedin-Lundqvist
+ * self-energy, without correlation. Model 'ground-state-lda' uses the energy-independent LDA
+ * exchange-correlation potential instead (for comparison).
  *
- * Imaginary part (losses), model 'plasmon-pole': the on-shell plasmon-emission rate of the
- * single-plasmon-pole dielectric function of Lundqvist (Phys. Kondens. Materie 6, 193 (1967)) as
- * used by Hedin and Lundqvist (Solid State Physics 23, 1 (1969)), dispersion
+ * Imaginary part (losses), model 'plasmon-pole': the on-shell plasmon-emission rate of the same
+ * single-plasmon-pole model (the imaginary part of the Hedin-Lundqvist self-energy), dispersion
  *   w_q^2 = w_p^2 + (v_F^2 / 3) q^2 + q^4 / 4,   w_p^2 = 4 pi rho,   v_F = k_F,
- * (the q^2 coefficient reproduces Thomas-Fermi screening in the static limit). In GW the golden-rule
- * rate with Im eps^-1(q, w) = -(pi w_p^2 / (2 w_q)) delta(w - w_q) gives, after the angular
- * integral (our derivation),
+ * (Lundqvist, Phys. Kondens. Materie 6, 193 (1967); Hedin and Lundqvist, Solid State Physics 23, 1
+ * (1969)). The golden-rule rate with Im eps^-1(q, w) = -(pi w_p^2 / (2 w_q)) delta(w - w_q) gives,
+ * after the angular integral (our derivation),
  *   Im Sigma(p) = -(w_p^2 / (2 p)) ∫ dq / (q w_q)
  * over the q where emission is kinematically allowed: w_q + q^2/2 <= p q (momentum) and
  * w_q <= (p^2 - k_F^2)/2 (the electron stays above the Fermi level). No losses below the plasmon
  * threshold; electron-hole excitations are not in the single-pole model.
- *
- * This is the "acceptable first step" of the design notes: Dirac-Hara real part plus a plasmon-pole
- * loss model. The full Hedin-Lundqvist real part can replace `dirac-hara` behind the same
- * {@link selfEnergy} signature.
+ * {@link plasmonPoleImaginary} evaluates this directly; {@link selfEnergy} uses the table of
+ * ./hedin-lundqvist (same integral, interpolated).
  */
+import { hedinLundqvistInterpolated, hedinLundqvistOnGrid, prepareGas, type PreparedGas } from './hedin-lundqvist';
 import { ldaExchangeCorrelationPotential } from './lda';
 
-/** Which real part: Dirac-Hara (energy dependent) or the ground-state LDA potential. */
-export type ExchangeModel = 'dirac-hara' | 'ground-state-lda';
+/** Which real part: Hedin-Lundqvist, Dirac-Hara (both energy dependent) or the ground-state LDA potential. */
+export type ExchangeModel = 'hedin-lundqvist' | 'dirac-hara' | 'ground-state-lda';
+export const EXCHANGE_MODELS: readonly ExchangeModel[] = ['hedin-lundqvist', 'dirac-hara', 'ground-state-lda'];
 /** Which loss model for the imaginary part. */
 export type LossModel = 'plasmon-pole' | 'none';
+export const LOSS_MODELS: readonly LossModel[] = ['plasmon-pole', 'none'];
 
 export interface SelfEnergyOptions {
   exchange: ExchangeModel;
   losses: LossModel;
 }
 
-export const DEFAULT_SELF_ENERGY: SelfEnergyOptions = { exchange: 'dirac-hara', losses: 'plasmon-pole' };
+export const DEFAULT_SELF_ENERGY: SelfEnergyOptions = { exchange: 'hedin-lundqvist', losses: 'plasmon-pole' };
 
 /** Fermi momentum k_F = (3 pi^2 rho)^(1/3), 1/bohr, for rho in electrons/bohr^3. */
 export function fermiMomentum(rho: number): number {
@@ -144,13 +152,64 @@ export function plasmonPoleImaginary(rho: number, p: number): number {
 }
 
 /**
- * Photoelectron self-energy [Re, Im] (hartree) at density rho (1/bohr^3) for interstitial wave
- * number k (1/bohr). Re is the exchange(-correlation) potential replacing the ground-state one.
+ * Photoelectron self-energy [Re, Im] (hartree) at density rho (1/bohr^3) for a photoelectron whose
+ * energy above the Fermi level is k^2 / 2 (k in 1/bohr; local momentum p = sqrt(k^2 + k_F^2)).
+ * Re replaces the ground-state exchange-correlation potential; Im <= 0.
  */
-export function selfEnergy(rho: number, k: number, options: SelfEnergyOptions = DEFAULT_SELF_ENERGY): [number, number] {
+export function selfEnergy(rho: number, k: number, options: SelfEnergyOptions = DEFAULT_SELF_ENERGY, out: [number, number] = [0, 0]): [number, number] {
+  const excess = 0.5 * k * k;
+  if (options.exchange === 'hedin-lundqvist') {
+    hedinLundqvistInterpolated(rho, excess, out);
+    if (options.losses === 'none') out[1] = 0;
+    return out;
+  }
   const kf = fermiMomentum(rho);
-  const p = Math.sqrt(k * k + kf * kf);
-  const re = options.exchange === 'dirac-hara' ? diracHaraExchange(rho, p) : ldaExchangeCorrelationPotential(rho);
-  const im = options.losses === 'plasmon-pole' ? plasmonPoleImaginary(rho, p) : 0;
-  return [re, im];
+  const re = options.exchange === 'dirac-hara' ? diracHaraExchange(rho, Math.sqrt(k * k + kf * kf)) : ldaExchangeCorrelationPotential(rho);
+  let im = 0;
+  if (options.losses === 'plasmon-pole') im = hedinLundqvistInterpolated(rho, excess, out)[1];
+  out[0] = re;
+  out[1] = im;
+  return out;
+}
+
+/** A fixed density profile prepared for fast self-energies at many energies. */
+export interface SelfEnergyGrid {
+  density: Float64Array;
+  /** k_F per point, 1/bohr. */
+  fermiMomentum: Float64Array;
+  /** Ground-state LDA v_xc per point, hartree. */
+  lda: Float64Array;
+  gas: PreparedGas;
+}
+
+/** Prepare a density profile (electrons/bohr^3) for {@link selfEnergyOnGrid}. */
+export function prepareSelfEnergyGrid(density: Float64Array): SelfEnergyGrid {
+  const n = density.length;
+  const kf = new Float64Array(n);
+  const lda = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    kf[i] = fermiMomentum(density[i]);
+    lda[i] = ldaExchangeCorrelationPotential(density[i]);
+  }
+  return { density, fermiMomentum: kf, lda, gas: prepareGas(density) };
+}
+
+/**
+ * {@link selfEnergy} at every point of a prepared profile for one photoelectron energy k^2 / 2
+ * above the Fermi level (k in 1/bohr): writes Re and Im (hartree) into `re` and `im`.
+ */
+export function selfEnergyOnGrid(grid: SelfEnergyGrid, k: number, options: SelfEnergyOptions, re: Float64Array, im: Float64Array): void {
+  const n = grid.density.length;
+  const excess = 0.5 * k * k;
+  const wantLosses = options.losses === 'plasmon-pole';
+  if (options.exchange === 'hedin-lundqvist' || wantLosses) hedinLundqvistOnGrid(grid.gas, excess, re, im);
+  if (!wantLosses) im.fill(0, 0, n);
+  if (options.exchange === 'dirac-hara') {
+    for (let i = 0; i < n; i++) {
+      const kf = grid.fermiMomentum[i];
+      re[i] = diracHaraExchange(grid.density[i], Math.sqrt(k * k + kf * kf));
+    }
+  } else if (options.exchange === 'ground-state-lda') {
+    re.set(grid.lda.subarray(0, n));
+  }
 }

@@ -5,8 +5,10 @@
  *      emptied, one extra valence electron) and ground-state atoms for every other species;
  *   2. muffin-tin cluster potentials from overlapped densities (./muffin-tin, Mattheiss; Norman radii
  *      with a settable overlap; interstitial level = surface average);
- *   3. the photoelectron's energy-dependent complex potential (./exchange: Dirac-Hara real part,
- *      plasmon-pole losses; ./site-potential);
+ *   3. the photoelectron's energy-dependent complex potential (./exchange: the Hedin-Lundqvist
+ *      plasmon-pole self-energy, real and imaginary parts, by default; Dirac-Hara exchange as a
+ *      setting; ./site-potential), evaluated everywhere at the photoelectron's energy above the
+ *      Fermi level;
  *   4. complex phase shifts on a coarse k grid (./phase-shifts), continued in k and splined;
  *   5. the exact curved-wave effective amplitude at the actual distance and the central-atom phase
  *      (./amplitude), combined over the edge's final-state channels;
@@ -17,6 +19,17 @@
  * e^{2 i delta_l^c} f_eff,l, i.e. phase = 2 delta_c - l pi + arg f_eff for a single channel. The
  * amplitude includes |e^{2 i delta_c}| (central-atom losses) when the absorber's delta is complex.
  *
+ * Losses are counted once each (our derivation): the sphere potentials are taken relative to the
+ * complex interstitial level, U = V - V_0, so a complex delta carries only the extra absorption
+ * inside a sphere beyond the interstitial one; |e^{2 i delta_c}| = |S_l| is, to WKB order,
+ * exp(-2 ∫_0^{r_mt} Im p dr) for the path out of the absorber sphere and back, which is what the
+ * ratio of the absorber's dipole matrix element squared to the atomic absorption reduces to; the
+ * interstitial part Im V_0 and the core-hole width enter only exp(-2R/lambda), over the whole path.
+ * Both the self-energy and the losses are evaluated at the photoelectron's energy above the Fermi
+ * level; the radial equation and the free waves use the interstitial wave number k_int,
+ * k_int^2 = k^2 + k_F^2 + 2 (Sigma(k_F) - Sigma(k)) with k_F and Sigma of the interstitial electron
+ * gas ('fermi' energy zero), and chi's 1/k_int is rewritten as 1/k by scaling the amplitude by k/k_int.
+ *
  * Below `kFloor` (default 0.5 1/Å) the functions are held at their kFloor values: the curved-wave
  * amplitude diverges as k -> 0 and EXAFS theory does not apply there.
  *
@@ -25,6 +38,7 @@
  * screened charge Z - 4.15 (Slater, Phys. Rev. 36, 57 (1930)), an approximation noted in the settings.
  */
 import { BOHR_RADIUS_A, HARTREE_EV } from '../core/constants';
+import { hashOf } from '../core/hash';
 import { ComputationError, InputError } from '../core/errors';
 import { elementBySymbol, type EdgeName } from '../elements/index';
 import { solveAtom } from './atom/index';
@@ -34,19 +48,25 @@ import { meanFreePath } from './mean-free-path';
 import { atomIntegrals, buildMuffinTins, type AtomIntegrals, type MuffinTinCluster, type SiteNeighbour, type SiteSpec } from './muffin-tin';
 import { phaseShifts, phaseShiftWorkspace, regularSolution, type SpherePotential } from './phase-shifts';
 import type { NeighbourSpec, ScatteringRequest } from './provider';
-import { interstitialLevel, lossTable, siteRadial, sphereAtEnergy, type SiteRadial } from './site-potential';
+import { interstitialLevel, siteRadial, sphereAtEnergy, type SiteRadial } from './site-potential';
 import { cubicSpline, splineAt } from './spline';
 
 /** Bump when the physics or numerics change, so cached results are not reused. */
-export const FIRST_PRINCIPLES_REVISION = 1;
+export const FIRST_PRINCIPLES_REVISION = 2;
+// revision history: 1 Dirac-Hara real part; 2 Hedin-Lundqvist real part by default, the sphere
+// self-energy evaluated at the energy above the Fermi level (was: at the interstitial wave number),
+// tabulated plasmon-pole losses, atoms converged to 1e-6 hartree
 
 /** Settings of the first-principles calculation, all with defaults. */
 export interface FirstPrinciplesSettings {
   /** Fractional muffin-tin overlap of touching spheres. */
   overlap: number;
-  /** Real part of the photoelectron self-energy. */
+  /**
+   * Real part of the photoelectron self-energy: 'hedin-lundqvist' (default; plasmon-pole exchange
+   * and correlation), 'dirac-hara' (exchange only) or 'ground-state-lda' (energy independent).
+   */
   exchange: ExchangeModel;
-  /** Loss model (imaginary part). */
+  /** Loss model (imaginary part): 'plasmon-pole' (default; the Hedin-Lundqvist imaginary part) or 'none'. */
   losses: LossModel;
   /** Use the core-hole atom for the absorber (final-state rule). */
   coreHole: boolean;
@@ -71,7 +91,7 @@ export interface FirstPrinciplesSettings {
 
 export const DEFAULT_FIRST_PRINCIPLES_SETTINGS: FirstPrinciplesSettings = {
   overlap: 0.1,
-  exchange: 'dirac-hara',
+  exchange: 'hedin-lundqvist',
   losses: 'plasmon-pole',
   coreHole: true,
   defaultCoordination: 12,
@@ -86,9 +106,16 @@ export const DEFAULT_FIRST_PRINCIPLES_SETTINGS: FirstPrinciplesSettings = {
 /** Source of atomic densities (so callers can cache atoms across requests). */
 export type AtomSource = (z: number, coreHole: EdgeName | null) => AtomIntegrals;
 
+/**
+ * Self-consistency tolerance (hartree) of the atoms behind cluster potentials: 1e-6, looser than
+ * the atom module's default 1e-8 (made for total energies), since a potential error of 1e-6
+ * hartree is far below what moves a phase shift; it saves about a third of the SCF work.
+ */
+export const ATOM_SCF_TOLERANCE = 1e-6;
+
 /** Solve atoms directly (no caching). */
 export function solveAtomIntegrals(z: number, coreHole: EdgeName | null): AtomIntegrals {
-  const atom = solveAtom({ z, coreHole });
+  const atom = solveAtom({ z, coreHole, tolerance: ATOM_SCF_TOLERANCE });
   if (!atom.converged) throw new ComputationError(`the LDA atom Z = ${z}${coreHole ? ` with a ${coreHole} core hole` : ''} did not converge`);
   return atomIntegrals({ z: atom.z, r: atom.r, density: atom.density });
 }
@@ -161,16 +188,60 @@ function core2p(z: number, r: number): number {
 }
 
 /**
- * Compute first-principles scattering functions for one request (no disk cache; atoms from `atoms`).
+ * Everything about one cluster that does not depend on which scatterer is asked for or at what
+ * distance: the muffin tins, the interstitial level and wave number at each energy of the coarse
+ * grid, and the absorber's central-atom phase shifts and channel weights. Phase shifts of the
+ * scatterer sites are added as they are asked for (they depend on the site, not on the distance).
  */
-export function computeFirstPrinciples(request: ScatteringRequest, settings: FirstPrinciplesSettings = DEFAULT_FIRST_PRINCIPLES_SETTINGS, atoms: AtomSource = solveAtomIntegrals): FirstPrinciplesResult {
-  checkRequest(request);
+export interface ClusterStage {
+  /** Coarse k grid, 1/Å. */
+  coarse: Float64Array;
+  cluster: MuffinTinCluster;
+  radial: SiteRadial[];
+  /** Site index of each species other than the absorber's own site (index 0). */
+  siteOf: Map<string, number>;
+  channels: number[];
+  /** Per coarse energy: interstitial wave number (1/bohr) and complex interstitial level (hartree). */
+  kInt: Float64Array;
+  v0Re: Float64Array;
+  v0Im: Float64Array;
+  /** Central-atom delta_l per channel (Re continued in k) and channel weights, per coarse energy. */
+  centralRe: Float64Array[];
+  centralIm: Float64Array[];
+  weight: Float64Array[];
+  kFermi: number;
+  /** Scatterer phase shifts by site index, filled on demand. */
+  shifts: Map<number, SiteShifts>;
+}
+
+/** Phase shifts of one scatterer site on the coarse grid, Re continued in k. */
+export interface SiteShifts {
+  lmax: number;
+  re: Float64Array[];
+  im: Float64Array[];
+}
+
+/**
+ * A memo of cluster stages shared by requests with the same absorber, edge, environment, settings
+ * and coarse grid (e.g. several shells of one structure). Callers own it; the provider keeps one.
+ */
+export type ClusterMemo = Map<string, ClusterStage>;
+
+/** Most cluster stages a memo keeps (least recently used dropped first; a stage is ~1 MB). */
+export const CLUSTER_MEMO_SIZE = 16;
+
+function lmaxFor(settings: FirstPrinciplesSettings, radius: number, k: number): number {
+  return Math.min(settings.lmaxCap, Math.ceil(k * radius) + settings.lmaxExtra);
+}
+
+function buildClusterStage(
+  request: ScatteringRequest,
+  env: { absorber: NeighbourSpec[]; scatterers: Record<string, NeighbourSpec[]> },
+  settings: FirstPrinciplesSettings,
+  atoms: AtomSource,
+  coarse: Float64Array,
+): ClusterStage {
   const absorberElement = elementBySymbol(request.absorber);
-  const scattererElement = elementBySymbol(request.scatterer);
-  const edgeData = absorberElement.edges[request.edge];
-  if (!edgeData) throw new InputError(`${absorberElement.symbol} has no ${request.edge} edge in the element table`, { key: 'edge' });
-  const gammaHartree = (edgeData.width ?? 0) / HARTREE_EV;
-  const env = resolveEnvironment(request, settings);
   const bohr = (a: number) => a / BOHR_RADIUS_A;
   const symbolOf = (s: string) => elementBySymbol(s).symbol;
   const ground = (symbol: string) => atoms(elementBySymbol(symbol).z, null);
@@ -181,62 +252,51 @@ export function computeFirstPrinciples(request: ScatteringRequest, settings: Fir
   const absorberSite: SiteSpec = { species: absorberElement.symbol, atom: absorberAtom, neighbours: neighbours(env.absorber), weight: 1 };
   const specs: SiteSpec[] = [absorberSite];
   const abundance = (species: string) => env.absorber.filter((nb) => symbolOf(nb.species) === species).reduce((a, nb) => a + nb.count, 0);
-  let scattererIndex = -1;
+  const siteOf = new Map<string, number>();
   for (const [species, list] of Object.entries(env.scatterers)) {
     const symbol = symbolOf(species);
-    if (specs.some((s, i) => i > 0 && s.species === symbol)) continue;
-    if (symbol === scattererElement.symbol) scattererIndex = specs.length;
+    if (siteOf.has(symbol)) continue;
+    siteOf.set(symbol, specs.length);
     specs.push({ species: symbol, atom: ground(symbol), neighbours: neighbours(list), weight: Math.max(abundance(symbol), 1) });
   }
-  if (scattererIndex < 0) throw new ComputationError(`no site built for scatterer ${scattererElement.symbol}`);
   const cluster: MuffinTinCluster = buildMuffinTins(specs, { overlap: settings.overlap });
   const radial: SiteRadial[] = cluster.sites.map((s) => siteRadial(s, settings.gridStep));
   const absorber = radial[0];
-  const scatterer = radial[scattererIndex];
   const selfEnergyOptions: SelfEnergyOptions = { exchange: settings.exchange, losses: settings.losses };
-
-  // coarse grid in 1/Å
-  const kMaxRequest = request.k.length ? request.k[request.k.length - 1] : settings.kFloor;
-  const kTop = Math.max(kMaxRequest, settings.kFloor) + 2 * settings.coarseStep;
-  const nCoarse = Math.max(4, Math.ceil((kTop - settings.kFloor) / settings.coarseStep) + 1);
-  const coarse = new Float64Array(nCoarse);
-  for (let i = 0; i < nCoarse; i++) coarse[i] = settings.kFloor + i * settings.coarseStep;
+  const nCoarse = coarse.length;
   const kAu = (kA: number) => kA * BOHR_RADIUS_A;
-  const lmaxAt = (k: number) => Math.min(settings.lmaxCap, Math.ceil(k * scatterer.radius) + settings.lmaxExtra);
-  const lmaxAll = lmaxAt(1.05 * Math.hypot(kAu(coarse[nCoarse - 1]), fermiMomentum(cluster.interstitialDensity)));
   const channels = edgeChannels(request.edge);
-  const scatRe = Array.from({ length: lmaxAll + 1 }, () => new Float64Array(nCoarse));
-  const scatIm = Array.from({ length: lmaxAll + 1 }, () => new Float64Array(nCoarse));
-  const centRe = channels.map(() => new Float64Array(nCoarse));
-  const centIm = channels.map(() => new Float64Array(nCoarse));
+  const centralRe = channels.map(() => new Float64Array(nCoarse));
+  const centralIm = channels.map(() => new Float64Array(nCoarse));
   const weight = channels.map(() => new Float64Array(nCoarse));
-  const imV0 = new Float64Array(nCoarse);
+  const v0Re = new Float64Array(nCoarse);
+  const v0Im = new Float64Array(nCoarse);
   const kInt = new Float64Array(nCoarse);
   // interstitial wave number for experimental k (relative to E_F): k_int^2 = 2 (E - V_0(E))
-  const interstitialDensity = cluster.interstitialDensity;
-  const kFermi = fermiMomentum(interstitialDensity);
-  const sigmaAverage = (k: number) => radial.reduce((a, s) => a + s.weight * selfEnergy(s.surfaceDensity, k, { ...selfEnergyOptions, losses: 'none' })[0], 0);
+  const kFermi = fermiMomentum(cluster.interstitialDensity);
+  const realOnly: SelfEnergyOptions = { ...selfEnergyOptions, losses: 'none' };
+  const sigma: [number, number] = [0, 0];
+  const sigmaAverage = (k: number) => radial.reduce((a, s) => a + s.weight * selfEnergy(s.surfaceDensity, k, realOnly, sigma)[0], 0);
   const sigmaFermi = sigmaAverage(0);
   const interstitialWaveNumber = (kExp: number) =>
     settings.energyZero === 'interstitial' ? kExp : Math.sqrt(kExp * kExp + kFermi * kFermi + 2 * (sigmaFermi - sigmaAverage(kExp)));
   const workAbs = phaseShiftWorkspace(absorber.r.length);
-  const workSc = phaseShiftWorkspace(scatterer.r.length);
   const potAbs: SpherePotential = { radius: absorber.radius, h: absorber.h, r: absorber.r, re: new Float64Array(absorber.r.length), im: new Float64Array(absorber.r.length) };
-  const potSc: SpherePotential = { radius: scatterer.radius, h: scatterer.h, r: scatterer.r, re: new Float64Array(scatterer.r.length), im: new Float64Array(scatterer.r.length) };
+  const lmaxCentral = Math.max(...channels);
   for (let i = 0; i < nCoarse; i++) {
     const kExp = kAu(coarse[i]);
-    const losses = lossTable(kExp, selfEnergyOptions);
-    const v0 = interstitialLevel(radial, kExp, selfEnergyOptions, losses);
-    imV0[i] = v0[1];
+    const v0 = interstitialLevel(radial, kExp, selfEnergyOptions);
+    v0Re[i] = v0[0];
+    v0Im[i] = v0[1];
     const k = interstitialWaveNumber(kExp);
     kInt[i] = k;
-    sphereAtEnergy(absorber, k, selfEnergyOptions, v0, losses, potAbs);
-    const lmaxCentral = Math.max(...channels);
+    // the self-energy takes the energy above the Fermi level (kExp); the radial equation k_int
+    sphereAtEnergy(absorber, kExp, selfEnergyOptions, v0, potAbs);
     const central = phaseShifts(potAbs, k, lmaxCentral, workAbs);
     const matrix: number[] = [];
     channels.forEach((l, c) => {
-      centRe[c][i] = central.re[l];
-      centIm[c][i] = central.im[l];
+      centralRe[c][i] = central.re[l];
+      centralIm[c][i] = central.im[l];
       if (channels.length > 1) {
         const sol = regularSolution(potAbs, k, l, { re: central.re[l], im: central.im[l] });
         let mr = 0;
@@ -258,22 +318,102 @@ export function computeFirstPrinciples(request: ScatteringRequest, settings: Fir
     } else {
       weight[0][i] = 1;
     }
-    sphereAtEnergy(scatterer, k, selfEnergyOptions, v0, losses, potSc);
-    const lmax = lmaxAt(k);
-    const shifts = phaseShifts(potSc, k, lmax, workSc);
-    for (let l = 0; l <= lmax; l++) {
-      scatRe[l][i] = shifts.re[l];
-      scatIm[l][i] = shifts.im[l];
+  }
+  centralRe.forEach(continueModPi);
+  return { coarse, cluster, radial, siteOf, channels, kInt, v0Re, v0Im, centralRe, centralIm, weight, kFermi, shifts: new Map() };
+}
+
+/** Phase shifts of site `index` on the stage's coarse grid (computed once per stage and site). */
+function siteShifts(stage: ClusterStage, index: number, settings: FirstPrinciplesSettings): SiteShifts {
+  const known = stage.shifts.get(index);
+  if (known) return known;
+  const site = stage.radial[index];
+  const selfEnergyOptions: SelfEnergyOptions = { exchange: settings.exchange, losses: settings.losses };
+  const { coarse, kInt } = stage;
+  const nCoarse = coarse.length;
+  const lmax = lmaxFor(settings, site.radius, 1.05 * Math.hypot(coarse[nCoarse - 1] * BOHR_RADIUS_A, stage.kFermi));
+  const re = Array.from({ length: lmax + 1 }, () => new Float64Array(nCoarse));
+  const im = Array.from({ length: lmax + 1 }, () => new Float64Array(nCoarse));
+  const work = phaseShiftWorkspace(site.r.length);
+  const pot: SpherePotential = { radius: site.radius, h: site.h, r: site.r, re: new Float64Array(site.r.length), im: new Float64Array(site.r.length) };
+  const v0: [number, number] = [0, 0];
+  for (let i = 0; i < nCoarse; i++) {
+    v0[0] = stage.v0Re[i];
+    v0[1] = stage.v0Im[i];
+    sphereAtEnergy(site, coarse[i] * BOHR_RADIUS_A, selfEnergyOptions, v0, pot);
+    const k = kInt[i];
+    const lmaxHere = lmaxFor(settings, site.radius, k);
+    const shifts = phaseShifts(pot, k, lmaxHere, work);
+    for (let l = 0; l <= lmaxHere; l++) {
+      re[l][i] = shifts.re[l];
+      im[l][i] = shifts.im[l];
     }
   }
-  for (let l = 0; l <= lmaxAll; l++) continueModPi(scatRe[l]);
-  centRe.forEach(continueModPi);
+  for (let l = 0; l <= lmax; l++) continueModPi(re[l]);
+  const result = { lmax, re, im };
+  stage.shifts.set(index, result);
+  return result;
+}
 
-  const splinesRe = scatRe.map((v) => cubicSpline(coarse, v));
-  const splinesIm = scatIm.map((v) => cubicSpline(coarse, v));
-  const centSplRe = centRe.map((v) => cubicSpline(coarse, v));
-  const centSplIm = centIm.map((v) => cubicSpline(coarse, v));
-  const weightSpl = weight.map((v) => cubicSpline(coarse, v));
+/**
+ * Compute first-principles scattering functions for one request (no disk cache; atoms from
+ * `atoms`). With a `memo`, cluster stages and site phase shifts are reused across requests that
+ * share them (the results are identical to computing each request alone).
+ */
+export function computeFirstPrinciples(
+  request: ScatteringRequest,
+  settings: FirstPrinciplesSettings = DEFAULT_FIRST_PRINCIPLES_SETTINGS,
+  atoms: AtomSource = solveAtomIntegrals,
+  memo?: ClusterMemo,
+): FirstPrinciplesResult {
+  checkRequest(request);
+  const absorberElement = elementBySymbol(request.absorber);
+  const scattererElement = elementBySymbol(request.scatterer);
+  const edgeData = absorberElement.edges[request.edge];
+  if (!edgeData) throw new InputError(`${absorberElement.symbol} has no ${request.edge} edge in the element table`, { key: 'edge' });
+  const gammaHartree = (edgeData.width ?? 0) / HARTREE_EV;
+  const env = resolveEnvironment(request, settings);
+  const bohr = (a: number) => a / BOHR_RADIUS_A;
+
+  // coarse grid in 1/Å
+  const kMaxRequest = request.k.length ? request.k[request.k.length - 1] : settings.kFloor;
+  const kTop = Math.max(kMaxRequest, settings.kFloor) + 2 * settings.coarseStep;
+  const nCoarse = Math.max(4, Math.ceil((kTop - settings.kFloor) / settings.coarseStep) + 1);
+  const coarse = new Float64Array(nCoarse);
+  for (let i = 0; i < nCoarse; i++) coarse[i] = settings.kFloor + i * settings.coarseStep;
+
+  const stageKey = memo
+    ? hashOf({ absorber: absorberElement.symbol, edge: request.edge, absorberEnv: env.absorber, scatterers: env.scatterers, settings, nCoarse })
+    : '';
+  let stage = memo?.get(stageKey);
+  if (stage && memo) {
+    // most recently used last
+    memo.delete(stageKey);
+    memo.set(stageKey, stage);
+  } else {
+    stage = buildClusterStage(request, env, settings, atoms, coarse);
+    if (memo) {
+      memo.set(stageKey, stage);
+      while (memo.size > CLUSTER_MEMO_SIZE) memo.delete(memo.keys().next().value as string);
+    }
+  }
+  const scattererIndex = stage.siteOf.get(scattererElement.symbol) ?? -1;
+  if (scattererIndex < 0) throw new ComputationError(`no site built for scatterer ${scattererElement.symbol}`);
+  const { cluster, channels, kInt } = stage;
+  const absorber = stage.radial[0];
+  const scatterer = stage.radial[scattererIndex];
+  const shifts = siteShifts(stage, scattererIndex, settings);
+  const lmaxAll = shifts.lmax;
+  const lmaxAt = (k: number) => lmaxFor(settings, scatterer.radius, k);
+  const kAu = (kA: number) => kA * BOHR_RADIUS_A;
+  const kFermi = stage.kFermi;
+  const imV0 = stage.v0Im;
+
+  const splinesRe = shifts.re.map((v) => cubicSpline(coarse, v));
+  const splinesIm = shifts.im.map((v) => cubicSpline(coarse, v));
+  const centSplRe = stage.centralRe.map((v) => cubicSpline(coarse, v));
+  const centSplIm = stage.centralIm.map((v) => cubicSpline(coarse, v));
+  const weightSpl = stage.weight.map((v) => cubicSpline(coarse, v));
   const imV0Spl = cubicSpline(coarse, imV0);
   const kIntSpl = cubicSpline(coarse, kInt);
   const coefficients = channels.map((l) => translationCoefficients(l, lmaxAll));

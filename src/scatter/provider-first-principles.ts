@@ -1,6 +1,6 @@
 /**
  * The `firstPrinciples` ScatteringProvider: scattering functions computed from self-consistent LDA
- * atoms, muffin-tin cluster potentials, energy-dependent exchange with plasmon-pole losses, complex
+ * atoms, muffin-tin cluster potentials, the Hedin-Lundqvist plasmon-pole self-energy, complex
  * phase shifts and exact curved-wave single-scattering amplitudes (./first-principles explains the
  * chain and its approximations).
  *
@@ -10,7 +10,9 @@
  *   the folder is, first match wins: the `cacheDir` option, $SHELLRANK_CACHE_DIR,
  *   $XDG_CACHE_HOME/shellrank, ~/.cache/shellrank. Files are written atomically. `cache: false`
  *   bypasses it (neither read nor written). A damaged cache file is ignored and rewritten.
- * - in memory, the solved atoms (keyed by Z, core hole and settings) for the provider's lifetime.
+ * - in memory, for the provider's lifetime: the solved atoms (keyed by Z, core hole and revision),
+ *   and the cluster stages (muffin tins, interstitial levels, central-atom and site phase shifts)
+ *   of the clusters already met, so that several shells of one structure build their cluster once.
  */
 import { existsSync, readFileSync } from 'node:fs';
 import { homedir } from 'node:os';
@@ -25,6 +27,7 @@ import {
   FIRST_PRINCIPLES_REVISION,
   solveAtomIntegrals,
   type AtomSource,
+  type ClusterMemo,
   type FirstPrinciplesSettings,
 } from './first-principles';
 import type { AtomIntegrals } from './muffin-tin';
@@ -95,6 +98,7 @@ export function firstPrinciplesProvider(options: FirstPrinciplesProviderOptions 
   const useCache = options.cache ?? true;
   const cacheDir = resolveCacheDir(options);
   const atoms = new Map<string, AtomIntegrals>();
+  const clusters: ClusterMemo = new Map();
   const atomSource: AtomSource = (z: number, coreHole: EdgeName | null) => {
     const key = hashOf({ z, coreHole, version: SHELLRANK_VERSION, revision: FIRST_PRINCIPLES_REVISION });
     let atom = atoms.get(key);
@@ -106,7 +110,7 @@ export function firstPrinciplesProvider(options: FirstPrinciplesProviderOptions 
   };
   return {
     name: FIRST_PRINCIPLES_PROVIDER_NAME,
-    describe: 'first-principles: LDA atoms, muffin-tin potentials, Dirac-Hara exchange with plasmon-pole losses, curved-wave amplitudes',
+    describe: 'first-principles: LDA atoms, muffin-tin potentials, Hedin-Lundqvist plasmon-pole self-energy, curved-wave amplitudes',
     compute(request: ScatteringRequest): ScatteringTable {
       const key = firstPrinciplesKey(request, settings);
       const info = {
@@ -125,7 +129,7 @@ export function firstPrinciplesProvider(options: FirstPrinciplesProviderOptions 
           );
         }
       }
-      const result = computeFirstPrinciples(request, settings, atomSource);
+      const result = computeFirstPrinciples(request, settings, atomSource, clusters);
       if (useCache) {
         const record: CachedTable = {
           format: 'shellrank-scattering-cache',

@@ -4,12 +4,13 @@
  * (exchange.ts):
  *   V_s(r, k) = V_coulomb,s(r) + Sigma(rho_s(r), k),
  *   V_0(k)    = sum_s w_s V_s(r_s, k)      (surface average, weights w_s = area x abundance),
- *   U_s(r, k) = V_s(r, k) - V_0(k)         (what the phase-shift integration sees).
- * The interstitial wave number of the photoelectron is k itself: k^2 / 2 = E - Re V_0(k), i.e. the
- * energy zero of the EXAFS k scale sits at the interstitial level (an offset is what the fit's e0
- * absorbs). Units: bohr, hartree.
+ *   U_s(r, k) = V_s(r, k) - V_0(k)         (what the phase-shift integration sees),
+ * where k^2 / 2 is the photoelectron's energy above the Fermi level, the argument of the local
+ * self-energy everywhere (exchange.ts). The caller solves the radial equation in U_s at the
+ * interstitial wave number k_int, k_int^2 / 2 = E - Re V_0 (first-principles.ts relates the two).
+ * Units: bohr, hartree.
  */
-import { plasmonPoleImaginary, selfEnergy, fermiMomentum, type SelfEnergyOptions } from './exchange';
+import { prepareSelfEnergyGrid, selfEnergy, selfEnergyOnGrid, type SelfEnergyGrid, type SelfEnergyOptions } from './exchange';
 import { siteDensityAndCoulomb, type MuffinTinSite } from './muffin-tin';
 import { sphereGrid, type SpherePotential } from './phase-shifts';
 
@@ -24,6 +25,8 @@ export interface SiteRadial {
   surfaceDensity: number;
   surfaceCoulomb: number;
   weight: number;
+  /** The density prepared for fast self-energies. */
+  selfEnergyGrid: SelfEnergyGrid;
 }
 
 export function siteRadial(site: MuffinTinSite, h = 0.01, rMin = 1e-5): SiteRadial {
@@ -45,57 +48,34 @@ export function siteRadial(site: MuffinTinSite, h = 0.01, rMin = 1e-5): SiteRadi
     surfaceDensity: site.surfaceDensity,
     surfaceCoulomb: site.surfaceCoulomb,
     weight: site.interstitialWeight,
+    selfEnergyGrid: prepareSelfEnergyGrid(density),
   };
 }
 
-/**
- * Im Sigma(rho) at fixed k tabulated on ln rho (1e-6 .. 1e3 electrons/bohr^3, 160 nodes) and
- * interpolated linearly: the plasmon-pole integral is too slow to evaluate at every grid point.
- */
-export function lossTable(k: number, options: SelfEnergyOptions): (rho: number) => number {
-  if (options.losses === 'none') return () => 0;
-  const n = 160;
-  const lo = Math.log(1e-6);
-  const hi = Math.log(1e3);
-  const step = (hi - lo) / (n - 1);
-  const table = new Float64Array(n);
-  for (let i = 0; i < n; i++) {
-    const rho = Math.exp(lo + i * step);
-    const kf = fermiMomentum(rho);
-    table[i] = plasmonPoleImaginary(rho, Math.sqrt(k * k + kf * kf));
-  }
-  return (rho: number) => {
-    if (!(rho > 1e-6)) return 0;
-    const x = (Math.log(rho) - lo) / step;
-    if (x >= n - 1) return table[n - 1];
-    const i = Math.floor(x);
-    const f = x - i;
-    return table[i] * (1 - f) + table[i + 1] * f;
-  };
-}
-
-/** Complex interstitial level V_0(k) = [re, im], hartree. */
-export function interstitialLevel(sites: readonly SiteRadial[], k: number, options: SelfEnergyOptions, losses = lossTable(k, options)): [number, number] {
+/** Complex interstitial level V_0(k) = [re, im], hartree, at energy k^2/2 above the Fermi level. */
+export function interstitialLevel(sites: readonly SiteRadial[], k: number, options: SelfEnergyOptions): [number, number] {
   let re = 0;
   let im = 0;
+  const sigma: [number, number] = [0, 0];
   for (const s of sites) {
-    const [sr] = selfEnergy(s.surfaceDensity, k, { ...options, losses: 'none' });
-    re += s.weight * (s.surfaceCoulomb + sr);
-    im += s.weight * losses(s.surfaceDensity);
+    selfEnergy(s.surfaceDensity, k, options, sigma);
+    re += s.weight * (s.surfaceCoulomb + sigma[0]);
+    im += s.weight * sigma[1];
   }
   return [re, im];
 }
 
-/** U_s(r, k) = V_s(r, k) - V_0(k) on the site's sphere grid (writes into `out` when given). */
-export function sphereAtEnergy(site: SiteRadial, k: number, options: SelfEnergyOptions, v0: [number, number], losses = lossTable(k, options), out?: SpherePotential): SpherePotential {
+/**
+ * U_s(r, k) = V_s(r, k) - V_0(k) on the site's sphere grid at energy k^2/2 above the Fermi level
+ * (writes into `out` when given).
+ */
+export function sphereAtEnergy(site: SiteRadial, k: number, options: SelfEnergyOptions, v0: [number, number], out?: SpherePotential): SpherePotential {
   const n = site.r.length;
   const pot: SpherePotential = out ?? { radius: site.radius, h: site.h, r: site.r, re: new Float64Array(n), im: new Float64Array(n) };
-  const realOnly: SelfEnergyOptions = { ...options, losses: 'none' };
+  selfEnergyOnGrid(site.selfEnergyGrid, k, options, pot.re, pot.im);
   for (let i = 0; i < n; i++) {
-    const rho = site.density[i];
-    const [sr] = selfEnergy(rho, k, realOnly);
-    pot.re[i] = site.coulomb[i] + sr - v0[0];
-    pot.im[i] = losses(rho) - v0[1];
+    pot.re[i] += site.coulomb[i] - v0[0];
+    pot.im[i] -= v0[1];
   }
   return pot;
 }

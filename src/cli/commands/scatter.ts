@@ -7,6 +7,8 @@ import { resolve } from 'node:path';
 import { writeFileAtomic } from '../../core/files';
 import { elementBySymbol, parseEdge } from '../../elements/index';
 import { renderLinePanels } from '../../report/svg-lines';
+import { InputError } from '../../core/errors';
+import { EXCHANGE_MODELS, type ExchangeModel } from '../../scatter/exchange';
 import { firstPrinciplesProvider } from '../../scatter/provider-first-principles';
 import type { CliIo } from '../io';
 import { emit, textTable, toJson } from '../output';
@@ -18,6 +20,7 @@ interface ScatterCliOptions {
   kMax: string;
   kStep: string;
   overlap: string;
+  exchange: string;
   json?: boolean;
   plot?: string;
   cache: boolean;
@@ -35,6 +38,7 @@ export function registerScatter(program: Command, io: CliIo): void {
     .option('--k-max <invA>', 'largest k of the grid, 1/Å', '20')
     .option('--k-step <invA>', 'k grid step, 1/Å', '0.25')
     .option('--overlap <fraction>', 'muffin-tin sphere overlap', '0.1')
+    .option('--exchange <model>', `real part of the photoelectron self-energy (${EXCHANGE_MODELS.join(', ')})`, 'hedin-lundqvist')
     .option('--json', 'write JSON {"k", "amplitude", "phase", "meanFreePath", ...}')
     .option('--plot <file.svg>', 'also write an SVG plot of the three functions')
     .option('--no-cache', 'neither read nor write the scattering cache')
@@ -47,9 +51,11 @@ export function registerScatter(program: Command, io: CliIo): void {
       const kMax = parseNumber('--k-max', raw.kMax, { min: 1, max: 30 });
       const kStep = parseNumber('--k-step', raw.kStep, { min: 0.001, max: 5 });
       const overlap = parseNumber('--overlap', raw.overlap, { min: 0, max: 0.4 });
+      const exchange = raw.exchange as ExchangeModel;
+      if (!EXCHANGE_MODELS.includes(exchange)) throw new InputError(`must be one of ${EXCHANGE_MODELS.join(', ')}, got '${raw.exchange}'`, { key: '--exchange' });
       const n = Math.floor(kMax / kStep + 1e-9) + 1;
       const k = new Float64Array(n).map((_, i) => Number((i * kStep).toPrecision(12)));
-      const provider = firstPrinciplesProvider({ cache: raw.cache, settings: { overlap } });
+      const provider = firstPrinciplesProvider({ cache: raw.cache, settings: { overlap, exchange } });
       const table = provider.compute({ absorber, scatterer, edge, distance, k });
       if (raw.plot !== undefined) {
         const svg = renderLinePanels(
