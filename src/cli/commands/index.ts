@@ -8,7 +8,8 @@ import { registerReduce } from './reduce';
 import { registerScatter } from './scatter';
 import { registerReport } from './report';
 import { registerFit } from './fit';
+import { registerRun } from './run';
 
 export type RegisterCommand = (program: Command, io: CliIo) => void;
 
-export const COMMANDS: RegisterCommand[] = [registerReduce, registerShells, registerSimulate, registerScatter, registerFit, registerReport, registerDemo];
+export const COMMANDS: RegisterCommand[] = [registerReduce, registerShells, registerSimulate, registerScatter, registerFit, registerRun, registerReport, registerDemo];
