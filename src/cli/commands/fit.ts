@@ -12,7 +12,8 @@ import { FIT_SPACES, type FitSpace } from '../../fit/exafs/problem';
 import { resolve } from 'node:path';
 import { writeReport } from '../../report/index';
 import type { CliIo } from '../io';
-import { emit, textTable, toJson } from '../output';
+import { emit, toJson } from '../output';
+import { fitResultLines } from '../fit-text';
 import { parseInteger, parseNumber, parseRange } from '../options';
 import { addStructureOptions, parseStructureOptions, type StructureCliOptions } from './structure-options';
 
@@ -79,10 +80,6 @@ export function parseFitOptions(raw: FitCliOptions): StructureFitSettings {
   };
 }
 
-function fmt(x: number, digits: number): string {
-  return Number.isFinite(x) ? x.toFixed(digits) : '—';
-}
-
 export function registerFit(program: Command, io: CliIo): void {
   addFitOptions(addStructureOptions(
     program.command('fit')
@@ -109,18 +106,10 @@ export function registerFit(program: Command, io: CliIo): void {
       if (raw.json) {
         emit(io, toJson(doc, 10), raw.out, [dataFile, structureFile]);
       } else {
-        const s = result.stats;
         const lines = [
           `fit of ${structureFile} to ${dataFile} (${set.absorber} ${set.edge} edge, ${settings.space} space, k ${settings.kRange.join('-')} 1/Å, R ${settings.rRange.join('-')} Å, k-weight ${settings.kWeights.join(',')})`,
           data.reducedHere ? `data reduced here with default settings: E0 = ${data.chi.e0.toFixed(2)} eV, edge step ${data.chi.edgeStep.toPrecision(4)}` : 'data: saved reduction',
-          `status: ${result.status.code} after ${result.status.iterations} iterations (${result.status.message})`,
-          `R-factor ${fmt(s.rFactor, 5)}  reduced chi-square ${fmt(s.reducedChiSquare, 2)}  independent points ${fmt(s.nIndependent, 1)}  varied ${s.nVaried}`,
-          '',
-          textTable(['parameter', 'value', 'error', 'state'], Object.entries(result.params).filter(([n]) => n === 'amp' || n === 'e0').map(([n, p]) => [n, fmt(p.value, 4), fmt(p.error, 4), p.state])),
-          textTable(['shell', 'species', 'n', 'r (Å)', '± r', 'r0 (Å)', 'msrd (Å^2)', '± msrd'], result.shells.map((sh) => [
-            sh.id, sh.species, fmt(sh.n.value, 2), fmt(sh.r.value, 4), fmt(sh.r.error, 4), fmt(sh.r0, 4), fmt(sh.msrd.value, 5), fmt(sh.msrd.error, 5)])),
-          ...result.warnings.map((w) => `warning: ${w}`),
-          ...result.recipe.map((r) => `recipe: ${r}`),
+          ...fitResultLines(result, { showParameter: (n) => n === 'amp' || n === 'e0', recipe: result.recipe }),
         ];
         emit(io, lines.join('\n') + '\n', raw.out, [dataFile, structureFile]);
       }

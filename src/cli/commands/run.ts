@@ -9,6 +9,7 @@ import { runStudy, studyDocument, type StudyFitResult } from '../../fit/study/ru
 import { writeReport } from '../../report/index';
 import type { CliIo } from '../io';
 import { emit, textTable, toJson } from '../output';
+import { fitResultLines, fmt } from '../fit-text';
 
 export interface RunCliOptions {
   json?: boolean;
@@ -19,17 +20,12 @@ export interface RunCliOptions {
   check?: boolean;
 }
 
-function fmt(x: number, digits: number): string {
-  return Number.isFinite(x) ? x.toFixed(digits) : '—';
-}
-
 /**
  * The text summary of a study fit, in the layout of the `fit` command: header, status, statistics,
  * the parameters declared in the study, the shells (with their data set when there are several),
  * warnings and what the rules expanded to.
  */
 export function studyFitText(result: StudyFitResult, prepared: PreparedStudy, display: (path: string) => string = (p) => p): string {
-  const s = result.stats;
   const several = prepared.datasets.length > 1;
   const perShell = new Set(prepared.eachParameters);
   const lines: string[] = [`study ${prepared.study.file}${prepared.study.input.title ? `: ${prepared.study.input.title}` : ''} (${prepared.provider.name} scattering functions)`];
@@ -38,16 +34,7 @@ export function studyFitText(result: StudyFitResult, prepared: PreparedStudy, di
     lines.push(`${several ? `${d.name}: ` : ''}fit of ${display(d.structure)} to ${display(d.data)} (${ds.pathSet.absorber} ${ds.pathSet.edge} edge, ${d.space} space, k ${d.kRange.join('-')} 1/Å, R ${d.rRange.join('-')} Å, k-weight ${d.kWeights.join(',')}${d.temperature !== undefined ? `, ${d.temperature} K` : ''})`);
     lines.push(`${several ? `${d.name}: ` : ''}${ds.data.reducedHere ? `data reduced here with default settings: E0 = ${ds.data.chi.e0.toFixed(2)} eV, edge step ${ds.data.chi.edgeStep.toPrecision(4)}` : 'data: saved reduction'}`);
   }
-  lines.push(
-    `status: ${result.status.code} after ${result.status.iterations} iterations (${result.status.message})`,
-    `R-factor ${fmt(s.rFactor, 5)}  reduced chi-square ${fmt(s.reducedChiSquare, 2)}  independent points ${fmt(s.nIndependent, 1)}  varied ${s.nVaried}`,
-    '',
-    textTable(['parameter', 'value', 'error', 'state'], Object.entries(result.params).filter(([n]) => !perShell.has(n)).map(([n, p]) => [n, fmt(p.value, 4), fmt(p.error, 4), p.state])),
-    textTable([...(several ? ['data set'] : []), 'shell', 'species', 'n', 'r (Å)', '± r', 'r0 (Å)', 'msrd (Å^2)', '± msrd'], result.shells.map((sh) => [
-      ...(several ? [sh.dataset] : []), sh.id, sh.species, fmt(sh.n.value, 2), fmt(sh.r.value, 4), fmt(sh.r.error, 4), fmt(sh.r0, 4), fmt(sh.msrd.value, 5), fmt(sh.msrd.error, 5)])),
-    ...result.warnings.map((w) => `warning: ${w}`),
-    ...result.recipe.map((r) => `recipe: ${r}`),
-  );
+  lines.push(...fitResultLines(result, { showParameter: (n) => !perShell.has(n), datasetColumn: several, recipe: result.recipe }));
   return lines.join('\n') + '\n';
 }
 
