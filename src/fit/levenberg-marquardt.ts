@@ -27,8 +27,15 @@
  * variables). Without an analytic Jacobian, finite differences (./finite-differences) are used.
  *
  * The covariance returned is (J^T J)^-1 for the external parameters, J evaluated at the
- * solution. It is not scaled by the residual variance: ./statistics does that.
+ * solution (the Jacobian and Gram matrix of the last iteration are reused when no step was
+ * accepted after them, i.e. when they were taken there). It is not scaled by the residual
+ * variance: ./statistics does that.
  * (Equation, section and algorithm numbers of the cited texts are from memory.)
+ *
+ * Work per iteration: one Jacobian, kept column-major (problems that can write it so give
+ * `jacobianColumns`; a row-major `jacobian` is transposed once), J^T J and J^T f from those
+ * columns (./dense), then n^3/6 per trial lambda. Buffers are allocated once per fit; the result
+ * takes over the residual and row-major Jacobian buffers instead of copying them.
  *
  * Checked in test/fit-levenberg-marquardt.test.ts against scipy.optimize.least_squares
  * (method 'lm', MINPACK) and NIST StRD Misra1a; on benchmark B1 the iterates match MINPACK's
@@ -41,10 +48,11 @@ import {
   choleskyInPlace,
   euclideanNorm,
   forwardSubstitute,
-  gramMatrix,
+  gramMatrixOfColumns,
   inverseSymmetricPositiveDefinite,
   quadraticForm,
   sumOfSquares,
+  transposeInto,
 } from './dense';
 import { finiteDifferenceJacobian, finiteDifferenceWork, type DifferenceScheme } from './finite-differences';
 
@@ -60,6 +68,13 @@ export interface LeastSquaresProblem {
    * It is called right after `residuals` at the same point, so caching shared pieces is safe.
    */
   jacobian?(params: Float64Array, out: Float64Array): void;
+  /**
+   * Optional: the same analytic Jacobian written column-major into `out` (element (i, j) at
+   * out[j * nResiduals + i], each parameter's column contiguous). Used instead of `jacobian` when
+   * present (the fitter works on columns, so this saves it a transpose per evaluation); called
+   * under the same contract. A wrapper that forwards only `jacobian` still gives correct fits.
+   */
+  jacobianColumns?(params: Float64Array, out: Float64Array): void;
   /** Number of residuals m (m >= number of parameters). */
   nResiduals: number;
   /** Start values (length n). */
@@ -88,7 +103,10 @@ export interface LeastSquaresOptions {
   differences?: DifferenceScheme;
   /** Relative finite-difference step (default: sqrt(eps) forward, eps^(1/3) central). */
   differenceStep?: number;
-  /** Compute the covariance (J^T J)^-1 at the solution (true). Needs one more Jacobian. */
+  /**
+   * Compute the covariance (J^T J)^-1 at the solution (true). Needs one more Jacobian unless the
+   * last one of the iterations was taken at the solution (no step accepted after it).
+   */
   covariance?: boolean;
 }
 
@@ -116,7 +134,10 @@ export interface LeastSquaresResult {
   iterations: number;
   /** Residual evaluations at the start and trial points (finite differences excluded). */
   evaluations: number;
-  /** Jacobian evaluations, the final one for the covariance included. */
+  /**
+   * Jacobian evaluations, including the one at the solution for the covariance (not needed, and
+   * not counted, when the last Jacobian of the iterations was already taken there).
+   */
   jacobianEvaluations: number;
   /** Residual evaluations spent on finite differences. */
   differenceEvaluations: number;
@@ -189,11 +210,14 @@ class Solver {
   xTrial: Float64Array; // external trial point
   f: Float64Array; // residuals at x
   fTrial: Float64Array;
-  readonly jacExt: Float64Array; // m x n, external
-  readonly jacInt: Float64Array; // m x n, internal (aliases jacExt when bounds are absent)
+  readonly jacExt: Float64Array; // column-major m x n, external
+  readonly jacInt: Float64Array; // column-major m x n, internal (aliases jacExt when bounds are absent)
+  /** Row-major m x n as written by `problem.jacobian` or finite differences; null when unused. */
+  readonly jacRows: Float64Array | null;
+  /** Whether jacExt holds the Jacobian at the current point xExt. */
+  jacobianCurrent = false;
   readonly dxdu: Float64Array;
   readonly gram: Float64Array;
-  readonly columns: Float64Array; // column-major scratch for the Gram matrix
   readonly chol: Float64Array;
   readonly grad: Float64Array; // J^T f
   readonly diag: Float64Array; // Moré scaling D
@@ -225,9 +249,9 @@ class Solver {
     this.fTrial = new Float64Array(m);
     this.jacExt = new Float64Array(m * n);
     this.jacInt = bounds.identity ? this.jacExt : new Float64Array(m * n);
+    this.jacRows = problem.jacobianColumns ? null : new Float64Array(m * n);
     this.dxdu = new Float64Array(n).fill(1);
     this.gram = new Float64Array(n * n);
-    this.columns = new Float64Array(m * n);
     this.chol = new Float64Array(n * n);
     this.grad = new Float64Array(n);
     this.diag = new Float64Array(n);
@@ -244,34 +268,45 @@ class Solver {
     return sumOfSquares(out, this.m);
   }
 
-  /** Jacobian at the current point (xExt, f): fills jacExt and jacInt. */
-  evaluateJacobian(): void {
-    const { m, n } = this;
+  /**
+   * Jacobian at the current point (xExt, f): fills jacExt (and jacRows when the problem writes
+   * rows). With `internal`, also jacInt = jacExt diag(dx/du).
+   */
+  evaluateJacobian(internal: boolean): void {
+    const { m, n, problem } = this;
     this.jacobianEvaluations++;
-    if (this.problem.jacobian) {
-      this.problem.jacobian(this.xExt, this.jacExt);
+    if (problem.jacobianColumns) {
+      problem.jacobianColumns(this.xExt, this.jacExt);
     } else {
-      this.differenceEvaluations += finiteDifferenceJacobian(
-        this.problem.residuals,
-        this.xExt,
-        this.f,
-        m,
-        n,
-        this.jacExt,
-        this.scheme,
-        this.bounds.lower,
-        this.bounds.upper,
-        this.fdWork!,
-        this.differenceStep,
-      );
+      const rows = this.jacRows!;
+      if (problem.jacobian) {
+        problem.jacobian(this.xExt, rows);
+      } else {
+        this.differenceEvaluations += finiteDifferenceJacobian(
+          problem.residuals,
+          this.xExt,
+          this.f,
+          m,
+          n,
+          rows,
+          this.scheme,
+          this.bounds.lower,
+          this.bounds.upper,
+          this.fdWork!,
+          this.differenceStep,
+        );
+      }
+      transposeInto(rows, m, n, this.jacExt);
     }
-    if (!this.bounds.identity) {
+    this.jacobianCurrent = true;
+    if (internal && !this.bounds.identity) {
       const d = this.dxdu;
       const je = this.jacExt;
       const ji = this.jacInt;
-      for (let i = 0; i < m; i++) {
-        const row = i * n;
-        for (let j = 0; j < n; j++) ji[row + j] = je[row + j] * d[j];
+      for (let j = 0; j < n; j++) {
+        const col = j * m;
+        const dj = d[j];
+        for (let i = 0; i < m; i++) ji[col + i] = je[col + i] * dj;
       }
     }
   }
@@ -402,9 +437,9 @@ class Solver {
         message = `stopped after ${iterations} iterations (maxIterations) before the convergence tests were met`;
         break;
       }
-      this.evaluateJacobian();
+      this.evaluateJacobian(true);
       iterations++;
-      gramMatrix(this.jacInt, m, n, this.gram, this.columns, this.f, this.grad);
+      gramMatrixOfColumns(this.jacInt, m, n, this.gram, this.f, this.grad);
       for (let j = 0; j < n; j++) {
         if (!Number.isFinite(this.gram[j * n + j]) || !Number.isFinite(this.grad[j])) {
           status = 'failed';
@@ -478,8 +513,13 @@ class Solver {
         if (ratio >= 1e-4) {
           // Accept: swap trial buffers into place.
           u.set(uTrial);
-          [this.xExt, this.xTrial] = [this.xTrial, this.xExt];
-          [this.f, this.fTrial] = [this.fTrial, this.f];
+          const x = this.xExt;
+          this.xExt = this.xTrial;
+          this.xTrial = x;
+          const f = this.f;
+          this.f = this.fTrial;
+          this.fTrial = f;
+          this.jacobianCurrent = false;
           if (!bounds.identity) toExternal(bounds, u, this.work, this.dxdu);
           ssr = ssrTrial;
           fnorm = fnormTrial;
@@ -532,21 +572,33 @@ class Solver {
     return this.finish(ssr, iterations, status, message, wantCovariance && status !== 'failed');
   }
 
+  /**
+   * The result record. The solver is not used afterwards, so its buffers for the residuals and
+   * the row-major Jacobian are handed to the result instead of copied.
+   */
   finish(ssr: number, iterations: number, status: FitStatus, message: string, wantCovariance: boolean): LeastSquaresResult {
     const { m, n, bounds } = this;
     let covariance: Float64Array | null = null;
-    const jacobian = new Float64Array(m * n);
+    let jacobian: Float64Array;
     if (wantCovariance && n > 0) {
-      // Jacobian at the solution, external parameters (f is the residual vector there).
-      this.evaluateJacobian();
-      jacobian.set(this.jacExt);
-      gramMatrix(jacobian, m, n, this.gram, this.columns);
+      // Jacobian at the solution, external parameters (f is the residual vector there). The
+      // Gram matrix of the iterations is reused when it is that of the external Jacobian there.
+      const gramCurrent = this.jacobianCurrent && bounds.identity;
+      if (!this.jacobianCurrent) this.evaluateJacobian(false);
+      if (!gramCurrent) gramMatrixOfColumns(this.jacExt, m, n, this.gram);
+      if (this.jacRows) {
+        jacobian = this.jacRows;
+      } else {
+        jacobian = new Float64Array(m * n);
+        transposeInto(this.jacExt, n, m, jacobian);
+      }
       covariance = inverseSymmetricPositiveDefinite(this.gram, n);
       if (covariance && covariance.some((v) => !Number.isFinite(v))) covariance = null;
     } else if (n === 0) {
+      jacobian = new Float64Array(0);
       covariance = new Float64Array(0);
     } else {
-      jacobian.fill(NaN);
+      jacobian = new Float64Array(m * n).fill(NaN);
     }
     const params = Float64Array.from(this.xExt);
     const flags: ('lower' | 'upper' | null)[] = [];
@@ -555,7 +607,7 @@ class Solver {
       params,
       ssr,
       cost: ssr / 2,
-      residuals: Float64Array.from(this.f),
+      residuals: this.f,
       jacobian,
       nResiduals: m,
       nParams: n,
