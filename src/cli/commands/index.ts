@@ -9,7 +9,10 @@ import { registerScatter } from './scatter';
 import { registerReport } from './report';
 import { registerFit } from './fit';
 import { registerRun } from './run';
+import { registerRank } from './rank';
+import { registerScreen } from './screen';
+import { registerMerge } from './merge';
 
 export type RegisterCommand = (program: Command, io: CliIo) => void;
 
-export const COMMANDS: RegisterCommand[] = [registerReduce, registerShells, registerSimulate, registerScatter, registerFit, registerRun, registerReport, registerDemo];
+export const COMMANDS: RegisterCommand[] = [registerReduce, registerShells, registerSimulate, registerScatter, registerFit, registerRun, registerRank, registerScreen, registerMerge, registerReport, registerDemo];

@@ -1,0 +1,258 @@
+/**
+ * Scoring one candidate, in either stage, the same way on the main thread and in a worker:
+ * - 'prescreen': shells at their structure distances and degeneracies, sigma^2 from the phonon
+ *   model plus static spread^2, only e0 and amp (and a mixture fraction) adjusted (./prescreen);
+ * - 'refine': the ranking recipe (./recipe) refined by Levenberg-Marquardt with the fit
+ *   module's problem builder and statistics (../fit/exafs).
+ * A candidate that cannot be read or fitted gives a record with ok = false and the error
+ * message, so one bad file does not stop a screen of thousands.
+ */
+import { resolve as resolvePath } from 'node:path';
+import { ComputationError, InputError } from '../core/errors';
+import { hashOf } from '../core/hash';
+import { elementBySymbol } from '../elements/index';
+import { correlatedDebyeMsrd, einsteinMsrd, reducedMass } from '../model/disorder';
+import { buildExafsProblem } from '../fit/exafs/problem';
+import { refine, type FitStats } from '../fit/exafs/refine';
+import type { ScatteringPath } from '../paths/pathset';
+import { defaultProviders } from '../scatter/registry';
+import type { AbsorberSelector } from '../structure/cluster';
+import type { EdgeName } from '../elements/index';
+import { candidateKey, componentsOf, FrameCache, type Candidate, type CandidateSpec, type ComponentShells } from './candidates';
+import { prescreen } from './prescreen';
+import { rankingRecipe, type RankingRecipeOptions } from './recipe';
+import { TableSource, type Environment, type TablePolicy } from './tables';
+import { distanceResolution, resolvedShells, type ResolvedShell } from './verdicts';
+import { compileWindow, type DataWindow, type WindowSettings } from './window';
+
+export type Stage = 'prescreen' | 'refine';
+
+/** sigma^2 model of the pre-screen. */
+export type PrescreenDisorder =
+  | { kind: 'debye'; debyeTemperature: number; temperature: number }
+  | { kind: 'einstein'; einsteinTemperature: number; temperature: number }
+  | { kind: 'fixed'; msrd: number };
+
+/** Every setting that decides a candidate's score (hashed into the settings hash). */
+export interface CandidateSettings {
+  absorber: AbsorberSelector;
+  edge: EdgeName;
+  /** Cluster radius, Å. */
+  radius: number;
+  /** Shell width, Å. */
+  tolerance: number;
+  window: WindowSettings;
+  recipe: Omit<RankingRecipeOptions, 'kRange' | 'rRange'>;
+  prescreen: { disorder: PrescreenDisorder; e0Range: [number, number] };
+  provider: string;
+  tables: TablePolicy;
+  /** Starts of each refinement (1 = from the recipe's start values only). */
+  starts: number;
+}
+
+/** Everything a worker needs, as plain data (structured-clone safe). */
+export interface RankJob {
+  settings: CandidateSettings;
+  settingsHash: string;
+  data: { name: string; file: string | null; sha256: string | null; k: Float64Array; chi: Float64Array; noiseChi: number };
+  referenceEnvironment: Environment | null;
+  /** Folder against which candidate paths are resolved. */
+  cwd: string;
+  cache: boolean;
+  cacheDir?: string;
+}
+
+/** The fit part of a record: refinement or pre-screen summary (plain JSON). */
+export type FitSummary = Record<string, unknown>;
+
+/** One line of a stream file. */
+export interface CandidateRecord {
+  key: string;
+  index: number;
+  name: string;
+  kind: CandidateSpec['kind'];
+  /** First structure file of the candidate. */
+  file: string;
+  frame?: number;
+  stage: Stage;
+  settingsHash: string;
+  ok: boolean;
+  error?: string;
+  stats: FitStats | null;
+  signature: ResolvedShell[] | null;
+  /** Keys of candidates nested in this one (mixture parts). */
+  contains?: string[];
+  fit: FitSummary | null;
+  /** Wall time of this candidate, ms (not part of any result). */
+  ms: number;
+}
+
+/** Per-thread evaluation state: the compiled window, tables and frame cache. */
+export interface EvaluationContext {
+  job: RankJob;
+  window: DataWindow;
+  tables: TableSource;
+  frames: FrameCache;
+}
+
+/** Build the per-thread state for a job. */
+export function makeContext(job: RankJob): EvaluationContext {
+  const s = job.settings;
+  const window = compileWindow({ name: job.data.name, k: job.data.k, chi: job.data.chi, noiseChi: job.data.noiseChi }, s.window);
+  const provider = defaultProviders({ cache: job.cache, cacheDir: job.cacheDir }).get(s.provider);
+  const kMax = s.window.kRange[1] + s.window.kWindow.taper;
+  const tables = new TableSource(provider, s.tables, job.referenceEnvironment, kMax);
+  return { job, window, tables, frames: new FrameCache((p) => resolvePath(job.cwd, p)) };
+}
+
+function firstSource(spec: CandidateSpec): { file: string; frame?: number } {
+  if (spec.kind === 'structure') return spec.source.frames === 1 ? { file: spec.source.file } : { file: spec.source.file, frame: spec.source.frame };
+  if (spec.kind === 'ensemble') return { file: spec.sources[0].file };
+  return firstSource(spec.parts[0]);
+}
+
+/** sigma^2 of a path under the pre-screen model (+ its static spread^2). */
+export function prescreenMsrd(disorder: PrescreenDisorder, absorber: string, path: ScatteringPath, density: number): number {
+  const static2 = path.spread * path.spread;
+  if (disorder.kind === 'fixed') return disorder.msrd + static2;
+  const mu = reducedMass(elementBySymbol(absorber).weight, elementBySymbol(path.scatterer).weight);
+  if (disorder.kind === 'einstein') return einsteinMsrd(mu, disorder.einsteinTemperature, disorder.temperature) + static2;
+  return correlatedDebyeMsrd(mu, disorder.debyeTemperature, disorder.temperature, path.r, density) + static2;
+}
+
+/** Paths inside the model range (r0 <= rMax + pathMargin). */
+function pathsInRange(ctx: EvaluationContext, component: ComponentShells): ScatteringPath[] {
+  const limit = ctx.job.settings.window.rRange[1] + (ctx.job.settings.recipe.pathMargin ?? 0.5) + 1e-9;
+  return component.pathSet.paths.filter((p) => p.r <= limit);
+}
+
+function round(x: number, digits = 8): number {
+  return Number.isFinite(x) ? Number(x.toPrecision(digits)) : x;
+}
+
+function evaluatePrescreen(ctx: EvaluationContext, components: ComponentShells[]): { stats: FitStats; fit: FitSummary; ok: boolean } {
+  const s = ctx.job.settings;
+  const parts = components.map((c) => {
+    const paths = pathsInRange(ctx, c);
+    const lookup = ctx.tables.forCandidate(c.pathSet.absorber, c.pathSet.edge, c.pathSet.environment);
+    return {
+      paths,
+      tables: paths.map((p) => lookup(p.scatterer, p.r)),
+      msrd: Float64Array.from(paths, (p) => prescreenMsrd(s.prescreen.disorder, c.pathSet.absorber, p, c.density)),
+    };
+  });
+  if (parts.every((p) => p.paths.length === 0)) throw new InputError(`no shell lies within the model range (r0 <= ${s.window.rRange[1] + (s.recipe.pathMargin ?? 0.5)} Å)`);
+  const amp = s.recipe.amp ?? 'free';
+  const result = prescreen(ctx.window, parts.filter((p) => p.paths.length > 0), {
+    amp, ampBounds: s.recipe.ampBounds ?? [0.5, 1.5], e0Range: s.prescreen.e0Range,
+  });
+  const params: Record<string, { value: number; error: number; state: string }> = {
+    amp: { value: round(result.amp.value), error: round(result.amp.error), state: amp === 'free' ? 'free' : 'fixed' },
+    e0: { value: round(result.e0.value), error: round(result.e0.error), state: 'free' },
+  };
+  if (result.fraction) params.fraction = { value: round(result.fraction.value), error: round(result.fraction.error), state: 'free' };
+  const fit: FitSummary = {
+    stage: 'prescreen',
+    status: { converged: result.converged, message: result.message, evaluations: result.evaluations },
+    stats: result.stats,
+    params,
+    shells: parts.reduce((n, p) => n + p.paths.length, 0),
+    msrd: s.prescreen.disorder,
+    warnings: result.warnings,
+  };
+  return { stats: result.stats, fit, ok: result.converged };
+}
+
+/**
+ * Per-shell curves for up to 12 shells; beyond that (disordered clusters, ensembles) the sum of
+ * each msrd group, labelled by the group's parameter name, to keep records small.
+ */
+function curvesByShellOrGroup(ids: readonly string[], groups: readonly string[], perPath: readonly Float64Array[]): { label: string; chi: number[] }[] {
+  if (ids.length <= 12) return ids.map((id, i) => ({ label: id, chi: Array.from(perPath[i], (x) => round(x, 8)) }));
+  const sums = new Map<string, Float64Array>();
+  groups.forEach((g, i) => {
+    const sum = sums.get(g) ?? new Float64Array(perPath[i].length);
+    for (let j = 0; j < sum.length; j++) sum[j] += perPath[i][j];
+    sums.set(g, sum);
+  });
+  return [...sums].map(([label, chi]) => ({ label, chi: Array.from(chi, (x) => round(x, 8)) }));
+}
+
+function evaluateRefine(ctx: EvaluationContext, components: ComponentShells[]): { stats: FitStats; fit: FitSummary; ok: boolean } {
+  const s = ctx.job.settings;
+  const w = s.window;
+  const recipe = rankingRecipe(
+    components.map((c, i) => ({ paths: c.pathSet.paths, share: components.length === 1 ? 'all' : i === 0 ? 'fraction' : 'rest' })),
+    { ...s.recipe, kRange: w.kRange, rRange: w.rRange },
+  );
+  const lookups = components.map((c) => ctx.tables.forCandidate(c.pathSet.absorber, c.pathSet.edge, c.pathSet.environment));
+  const tables = recipe.paths.map((p, i) => lookups[recipe.componentOf[i]](p.scatterer, p.r));
+  const m = ctx.job.data;
+  const problem = buildExafsProblem(recipe.parameters, [{
+    name: m.name, k: m.k, chi: m.chi, noiseChi: m.noiseChi, paths: recipe.paths, tables, rules: recipe.rules,
+    kRange: w.kRange, kWeights: w.kWeights, kWindow: w.kWindow, rRange: w.rRange, rWindow: w.rWindow, space: w.space,
+  }]);
+  const result = refine(problem, { starts: s.starts });
+  const fit: FitSummary = {
+    stage: 'refine',
+    status: result.status,
+    stats: result.stats,
+    params: result.params,
+    shells: result.shells.map((sh, i) => ({
+      id: sh.id, species: sh.species, component: recipe.componentOf[i], group: recipe.groupOf[i], r0: sh.r0, n: sh.n, r: sh.r, msrd: sh.msrd,
+    })),
+    correlations: result.correlations,
+    warnings: result.warnings,
+    recipe: recipe.description,
+    // unweighted chi(k) of data, model and each shell, in the shape of the fit document's curves
+    curves: result.curves.map((c) => ({
+      name: c.name,
+      kWeight: w.kWeights[0],
+      k: Array.from(c.k, (x) => round(x, 8)),
+      data: Array.from(c.data, (x) => round(x, 8)),
+      model: Array.from(c.model, (x) => round(x, 8)),
+      window: { shape: w.kWindow.shape, min: w.kRange[0], max: w.kRange[1], taper: w.kWindow.taper },
+      rRange: w.rRange,
+      shells: curvesByShellOrGroup(result.shells.map((sh) => sh.id), recipe.groupOf, c.perPath),
+    }))[0],
+  };
+  const ok = Number.isFinite(result.stats.reducedChiSquare) && result.status.code !== 'failed';
+  return { stats: result.stats, fit, ok };
+}
+
+/** Score one candidate in one stage. Never throws for a bad candidate: see the module header. */
+export function evaluateCandidate(ctx: EvaluationContext, candidate: Candidate, stage: Stage): CandidateRecord {
+  const started = performance.now();
+  const { spec } = candidate;
+  const source = firstSource(spec);
+  const base: CandidateRecord = {
+    key: candidate.key, index: candidate.index, name: spec.name, kind: spec.kind, file: source.file, stage,
+    settingsHash: ctx.job.settingsHash, ok: false, stats: null, signature: null, fit: null, ms: 0,
+  };
+  if (source.frame !== undefined) base.frame = source.frame;
+  if (spec.kind === 'mixture') base.contains = spec.parts.map(candidateKey);
+  try {
+    const s = ctx.job.settings;
+    const components = componentsOf(spec, { absorber: s.absorber, edge: s.edge, radius: s.radius, tolerance: s.tolerance }, ctx.frames);
+    const scored = stage === 'prescreen' ? evaluatePrescreen(ctx, components) : evaluateRefine(ctx, components);
+    base.ok = scored.ok;
+    base.stats = scored.stats;
+    base.fit = scored.fit;
+    if (components.length === 1) {
+      base.signature = resolvedShells(pathsInRange(ctx, components[0]), distanceResolution(s.window.kRange))
+        .map((x) => ({ species: x.species, n: round(x.n, 10), r: round(x.r, 10) }));
+    }
+  } catch (error) {
+    if (!(error instanceof InputError) && !(error instanceof ComputationError) && !(error instanceof RangeError)) throw error;
+    base.ok = false;
+    base.error = error.message;
+  }
+  base.ms = Math.round((performance.now() - started) * 10) / 10;
+  return base;
+}
+
+/** Hash of the settings, data and reference environment: the identity of a run's results. */
+export function settingsHashOf(settings: CandidateSettings, data: { sha256: string | null; k: Float64Array; chi: Float64Array }, reference: Environment | null, version: string): string {
+  const dataId = data.sha256 ?? hashOf({ k: data.k, chi: data.chi });
+  return hashOf({ settings, data: dataId, reference, version }).slice(0, 16);
+}

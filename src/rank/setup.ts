@@ -1,0 +1,162 @@
+/**
+ * Setting up a ranking: the user's options with every default filled in, the measured data, the
+ * reference environment for shared scattering tables, and the settings hash that identifies the
+ * run's results (for resume and merge).
+ *
+ * Defaults (each recorded in the settings of the output):
+ * - window: k 3-14 1/Å (14 lowered to the end of the data, in steps of 0.5), R 1.2-4.0 Å,
+ *   k-weight 2, R-space fit, Hann windows with tapers 1 1/Å and 0.5 Å. R reaches 4 Å so that
+ *   the second and third shells of close-packed structures, which tell fcc from bcc and hcp and
+ *   zinc blende from rock salt, are inside the window (common practice, no source);
+ * - shells: cluster radius rMax + pathMargin + 0.5 Å, shell width 0.01 Å;
+ * - recipe: ./recipe defaults (bands of 0.3 Å, amp free in [0.5, 1.5], one expansion factor);
+ * - pre-screen: correlated Debye sigma^2 with a Debye temperature of 300 K at 300 K (an
+ *   order-of-magnitude choice for metals and simple compounds near room temperature, common
+ *   practice, no source; give --debye-temp or --einstein-temp for the sample), e0 searched in
+ *   -15..15 eV;
+ * - tables: 'own' for up to 20 candidates, else 'shared' (./tables explains both).
+ */
+import { resolve as resolvePath } from 'node:path';
+import { InputError } from '../core/errors';
+import { SHELLRANK_VERSION } from '../core/provenance';
+import type { EdgeName } from '../elements/index';
+import type { FitSpace } from '../fit/exafs/problem';
+import type { WindowShape } from '../numeric/window';
+import type { Chi } from '../reduce/index';
+import type { AbsorberSelector } from '../structure/cluster';
+import { componentsOf, FrameCache, makeCandidates, type Candidate, type CandidateSpec } from './candidates';
+import { settingsHashOf, type CandidateSettings, type PrescreenDisorder, type RankJob } from './evaluate';
+import { DEFAULT_SHARED_TABLE_STEP, type Environment, type TableMode } from './tables';
+
+/** What the user chooses; everything but the absorber has a default. */
+export interface RankOptions {
+  absorber: AbsorberSelector;
+  edge?: EdgeName;
+  radius?: number;
+  tolerance?: number;
+  kRange?: [number, number];
+  rRange?: [number, number];
+  kWeights?: number[];
+  space?: FitSpace;
+  kWindow?: { shape: WindowShape; taper: number };
+  rWindow?: { shape: WindowShape; taper: number };
+  pathMargin?: number;
+  bandWidth?: number;
+  amp?: number | 'free';
+  ampBounds?: [number, number];
+  distances?: 'expand' | 'fixed';
+  maxFree?: number;
+  disorder?: PrescreenDisorder;
+  e0Range?: [number, number];
+  provider?: string;
+  tables?: TableMode | 'auto';
+  tableStep?: number;
+  starts?: number;
+}
+
+/** Measured data for a ranking. */
+export interface RankData {
+  name: string;
+  file: string | null;
+  sha256: string | null;
+  chi: Chi;
+}
+
+export interface PreparedRanking {
+  job: RankJob;
+  candidates: Candidate[];
+}
+
+/** Default upper k: 14 1/Å, or the end of the data rounded down to 0.5 1/Å. */
+export function defaultKRange(chi: Chi): [number, number] {
+  const last = chi.k[chi.k.length - 1];
+  return [3, Math.min(14, Math.floor(last * 2) / 2)];
+}
+
+/** Fill in every default (see the module header). */
+export function resolveSettings(options: RankOptions, chi: Chi, candidateCount: number): CandidateSettings {
+  const rRange = options.rRange ?? [1.2, 4.0];
+  const pathMargin = options.pathMargin ?? 0.5;
+  const tables = options.tables ?? 'auto';
+  const mode: TableMode = tables === 'auto' ? (candidateCount <= 20 ? 'own' : 'shared') : tables;
+  const settings: CandidateSettings = {
+    absorber: options.absorber,
+    edge: options.edge ?? 'K',
+    radius: options.radius ?? rRange[1] + pathMargin + 0.5,
+    tolerance: options.tolerance ?? 0.01,
+    window: {
+      kRange: options.kRange ?? defaultKRange(chi),
+      rRange,
+      kWeights: options.kWeights ?? [2],
+      space: options.space ?? 'r',
+      kWindow: options.kWindow ?? { shape: 'hann', taper: 1 },
+      rWindow: options.rWindow ?? { shape: 'hann', taper: 0.5 },
+    },
+    recipe: {
+      pathMargin,
+      bandWidth: options.bandWidth ?? 0.3,
+      amp: options.amp ?? 'free',
+      ampBounds: options.ampBounds ?? [0.5, 1.5],
+      distances: options.distances ?? 'expand',
+      ...(options.maxFree !== undefined ? { maxFree: options.maxFree } : {}),
+    },
+    prescreen: {
+      disorder: options.disorder ?? { kind: 'debye', debyeTemperature: 300, temperature: 300 },
+      e0Range: options.e0Range ?? [-15, 15],
+    },
+    provider: options.provider ?? 'firstPrinciples',
+    tables: { mode, distanceStep: options.tableStep ?? (mode === 'shared' ? DEFAULT_SHARED_TABLE_STEP : 0) },
+    starts: options.starts ?? 1,
+  };
+  if (settings.radius < rRange[1] + pathMargin) {
+    throw new InputError(`the cluster radius ${settings.radius} Å is smaller than the model range ${rRange[1] + pathMargin} Å (R max + margin)`, { key: '--radius' });
+  }
+  return settings;
+}
+
+/**
+ * Prepare a ranking: settings, the reference environment (from the first candidate, or
+ * `reference` when given) and the job for the workers.
+ * @throws InputError when there are no candidates or the reference candidate cannot be read.
+ */
+export function prepareRanking(data: RankData, specs: readonly CandidateSpec[], options: RankOptions, context: { cwd: string; cache?: boolean; cacheDir?: string; reference?: CandidateSpec }): PreparedRanking {
+  if (specs.length === 0) throw new InputError('no candidates to rank');
+  const candidates = makeCandidates(specs);
+  const keys = new Map<string, string>();
+  for (const c of candidates) {
+    const other = keys.get(c.key);
+    if (other !== undefined) throw new InputError(`two candidates are the same (${other} and ${c.spec.name}); give each once`);
+    keys.set(c.key, c.spec.name);
+  }
+  const settings = resolveSettings(options, data.chi, candidates.length);
+  let reference: Environment | null = null;
+  if (settings.tables.mode === 'shared') {
+    // the reference: the given one, else the first candidate that can be read (of the first ten)
+    const shellSettings = { absorber: settings.absorber, edge: settings.edge, radius: settings.radius, tolerance: settings.tolerance };
+    const cache = new FrameCache((p) => resolvePath(context.cwd, p));
+    const tries = context.reference ? [context.reference] : candidates.slice(0, 10).map((c) => c.spec);
+    let firstError: unknown = null;
+    for (const spec of tries) {
+      try {
+        reference = componentsOf(spec, shellSettings, cache)[0].pathSet.environment;
+        break;
+      } catch (error) {
+        if (!(error instanceof InputError)) throw error;
+        firstError ??= error;
+      }
+    }
+    if (!reference) throw firstError;
+  }
+  const measured = { k: data.chi.k, chi: data.chi.chi, sha256: data.sha256 };
+  const settingsHash = settingsHashOf(settings, measured, reference, SHELLRANK_VERSION);
+  const job: RankJob = {
+    settings,
+    settingsHash,
+    data: { name: data.name, file: data.file, sha256: data.sha256, k: Float64Array.from(data.chi.k), chi: Float64Array.from(data.chi.chi), noiseChi: data.chi.noise.k },
+    referenceEnvironment: reference,
+    cwd: context.cwd,
+    cache: context.cache ?? true,
+    ...(context.cacheDir ? { cacheDir: context.cacheDir } : {}),
+  };
+  return { job, candidates };
+}
