@@ -9,6 +9,11 @@ export interface CliIo {
 }
 
 export function processIo(): CliIo {
+  // A closed pipe (`shellrank rank ... | head`) is the reader's choice, not an error: stop quietly.
+  process.stdout.on('error', (e: NodeJS.ErrnoException) => {
+    if (e.code === 'EPIPE') process.exit(0);
+    throw e;
+  });
   return {
     stdout: (t) => void process.stdout.write(t),
     stderr: (t) => void process.stderr.write(t),
