@@ -4,12 +4,44 @@
  * follows from h_1(x) = -e^{ix}(x + i)/x^2 (A&S 10.1.11), and the plane-wave limit
  * f_eff -> f(pi) = (1/k) sum (2l+1)(-1)^l e^{i delta_l} sin delta_l for large R (Lee and Pendry,
  * Phys. Rev. B 11, 2795 (1975); Rehr and Albers, Phys. Rev. B 41, 8139 (1990)).
+ * The full short-R complex amplitude, phase included, is checked for every l' of the scatterer
+ * against an oracle that uses no angular-momentum algebra: the outgoing wave h_l Y_lm of the
+ * absorber projected numerically (Gauss-Legendre in cos theta) onto Y_l'm about the scatterer,
+ * and the scattered wave h_l' Y_l'm projected back onto Y_lm about the absorber (each projection
+ * divided by the regular radial function it multiplies), combined as rho_m = a b i t_l'.
  */
 import { describe, expect, it } from 'vitest';
 import { effectiveAmplitude, planeWaveBackscattering, translationCoefficients } from '../src/scatter/amplitude';
 import { gaunt, sphericalHarmonic } from '../src/scatter/angular';
 import { phaseShifts, spherePotentialFrom } from '../src/scatter/phase-shifts';
 import { sphericalBesselJ, sphericalHankel } from '../src/scatter/spherical-bessel';
+
+/** Gauss-Legendre nodes and weights on [-1, 1] (Newton on P_n; Abramowitz and Stegun 25.4.29). */
+function gaussLegendre(n: number): { x: Float64Array; w: Float64Array } {
+  const x = new Float64Array(n);
+  const w = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    let z = Math.cos((Math.PI * (i + 0.75)) / (n + 0.5));
+    for (let it = 0; it < 100; it++) {
+      let p0 = 1;
+      let p1 = z;
+      for (let l = 2; l <= n; l++) {
+        const p2 = ((2 * l - 1) * z * p1 - (l - 1) * p0) / l;
+        p0 = p1;
+        p1 = p2;
+      }
+      const dp = (n * (z * p1 - p0)) / (z * z - 1);
+      const dz = p1 / dp;
+      z -= dz;
+      if (Math.abs(dz) < 1e-15) {
+        x[i] = z;
+        w[i] = 2 / ((1 - z * z) * dp * dp);
+        break;
+      }
+    }
+  }
+  return { x, w };
+}
 
 describe('addition theorem for outgoing spherical waves (Danos and Maximon 1965)', () => {
   it('h_l Y_lm(r + d) equals the two-centre sum to 1e-9 at a test point', () => {
@@ -74,6 +106,64 @@ describe('curved-wave amplitude', () => {
       const ci = 2 / x;
       expect(fr).toBeCloseTo(pr * cr - pi * ci, 12);
       expect(fi).toBeCloseTo(pr * ci + pi * cr, 12);
+    }
+  });
+  it('short R, every l\' = 0..7, final l = 0, 1, 2: f_eff equals the direct angular projections of the two translations (complex, 1e-9 relative)', () => {
+    const gauss = gaussLegendre(96);
+    const theta = (l: number, m: number, c: number) => sphericalHarmonic(l, m, Math.acos(c), 0)[0];
+    const hankel = (l: number, x: number): [number, number] => {
+      const h = sphericalHankel(l, x);
+      return [h.re[l], h.im[l]];
+    };
+    const delta: [number, number] = [0.4, 0.1];
+    const [tr, ti] = [(Math.exp(-2 * delta[1]) * Math.sin(2 * delta[0])) / 2, -(Math.exp(-2 * delta[1]) * Math.cos(2 * delta[0]) - 1) / 2];
+    for (const finalL of [1, 0, 2]) {
+      for (const [k, R] of [[1.2, 4.8], [3, 4.8], [0.9, 3]]) {
+        for (let lp = 0; lp <= 7; lp++) {
+          const rho = 0.45 * R; // any radius below R: the expansions are exact there
+          let sumR = 0;
+          let sumI = 0;
+          for (let m = -Math.min(finalL, lp); m <= Math.min(finalL, lp); m++) {
+            let ar = 0;
+            let ai = 0;
+            let br = 0;
+            let bi = 0;
+            for (let q = 0; q < gauss.x.length; q++) {
+              const c = gauss.x[q];
+              // point rho (sin, 0, cos) about the scatterer at R z, seen from the absorber
+              const d1 = Math.sqrt(R * R + rho * rho + 2 * R * rho * c);
+              const [h1r, h1i] = hankel(finalL, k * d1);
+              const f1 = 2 * Math.PI * gauss.w[q] * theta(lp, m, c) * theta(finalL, m, (R + rho * c) / d1);
+              ar += f1 * h1r;
+              ai += f1 * h1i;
+              // point rho (sin, 0, cos) about the absorber, seen from the scatterer
+              const d2 = Math.sqrt(R * R + rho * rho - 2 * R * rho * c);
+              const [h2r, h2i] = hankel(lp, k * d2);
+              const f2 = 2 * Math.PI * gauss.w[q] * theta(finalL, m, c) * theta(lp, m, (rho * c - R) / d2);
+              br += f2 * h2r;
+              bi += f2 * h2i;
+            }
+            const ja = sphericalBesselJ(lp, k * rho)[lp];
+            const jb = sphericalBesselJ(finalL, k * rho)[finalL];
+            const [pr, pi] = [(ar * br - ai * bi) / (ja * jb), (ar * bi + ai * br) / (ja * jb)];
+            sumR += pr;
+            sumI += pi;
+          }
+          // rho = (a b) i t, then f = (-1)^(l+1) k R^2 e^{-2ikR} rho / (i (2l+1)) (the module's normalisation,
+          // fixed by the s-wave closed form and the plane-wave limit above)
+          const [rr, ri] = [-sumR * ti - sumI * tr, sumR * tr - sumI * ti];
+          const [er, ei] = [Math.cos(2 * k * R), -Math.sin(2 * k * R)];
+          const [qr, qi] = [rr * er - ri * ei, rr * ei + ri * er];
+          const scale = ((finalL % 2 === 0 ? -1 : 1) * k * R * R) / (2 * finalL + 1);
+          const oracle = [scale * qi, -scale * qr];
+          const dRe = new Float64Array(lp + 1);
+          const dIm = new Float64Array(lp + 1);
+          dRe[lp] = delta[0];
+          dIm[lp] = delta[1];
+          const got = effectiveAmplitude(translationCoefficients(finalL, lp), dRe, dIm, lp, k, R);
+          expect(Math.hypot(got[0] - oracle[0], got[1] - oracle[1]), `l ${finalL} l' ${lp} k ${k} R ${R}`).toBeLessThan(1e-9 * Math.hypot(oracle[0], oracle[1]));
+        }
+      }
     }
   });
   const pot = spherePotentialFrom(2.4, (r) => [(-29 * Math.exp(-r / 0.5)) / r - 0.5, 0], 0.01);

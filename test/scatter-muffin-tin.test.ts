@@ -104,6 +104,18 @@ describe('Norman radius and muffin-tin spheres', () => {
     const surf = siteDensityAndCoulomb(site, 1.1);
     expect(cluster.interstitialDensity).toBeCloseTo(surf.density, 12);
   });
+  it('the absorber (site 0, here a more compact stand-in for a core-hole atom) does not lend its Norman radius to the ground-state neighbours of the other sites: radii follow r_s = (1 + overlap) d N_s / (N_s + N_j) with N_j of the ground-state site (Norman 1976 pair rule as the module states it)', () => {
+    const ground = atomIntegrals(hydrogenic(1, 1));
+    const excited = atomIntegrals(hydrogenic(1, 1, 1.4));
+    const nb = { species: 'H', atom: ground, distance: d, count: 1 };
+    const absorber: SiteSpec = { species: 'H', atom: excited, neighbours: [nb] };
+    const scatterer: SiteSpec = { species: 'H', atom: ground, neighbours: [nb] };
+    const cluster = buildMuffinTins([absorber, scatterer], { overlap: 0.1 });
+    const [na, ns] = cluster.sites.map((x) => x.normanRadius);
+    expect(Math.abs(na - ns)).toBeGreaterThan(0.01); // the stand-ins really differ
+    expect(cluster.sites[1].radius).toBeCloseTo((1.1 * d) / 2, 12);
+    expect(cluster.sites[0].radius).toBeCloseTo((1.1 * d * na) / (na + ns), 12);
+  });
   it('overlapped Coulomb potential of a neutral pair is below the free atom inside the sphere (neighbour nucleus attracts)', () => {
     for (const r of [0.3, 0.8]) {
       expect(siteDensityAndCoulomb(site, r).coulomb).toBeLessThan(a.rv[0] === -1 ? -(1 / r + 1) * Math.exp(-2 * r) : 0);

@@ -17,7 +17,9 @@
  * overlapped density of a site holds the site's nuclear charge Z, scaled pairwise so that a site and
  * its nearest neighbour overlap by the fraction `overlap` of their distance:
  *   r_s = min over neighbours j of (1 + overlap) d_sj N_s / (N_s + N_j)
- * (N_j = the neighbour's own Norman radius when that species is a site of the cluster, else N_s).
+ * (N_j = the Norman radius of the neighbour's species as a site of the cluster, else N_s; the
+ * neighbours are ground-state atoms, so a species that is both the absorber, site 0, whose atom may
+ * carry a core hole, and another site takes the other site's radius).
  *
  * Interstitial level: the average of the potential over the sphere surfaces, each site weighted by
  * its sphere area r_s^2 times its abundance. This is applied at every photoelectron energy to the
@@ -242,10 +244,13 @@ export function buildMuffinTins(specs: SiteSpec[], options: MuffinTinOptions = {
   const overlap = options.overlap ?? 0.1;
   if (!(overlap >= 0 && overlap < 0.5)) throw new InputError(`muffin-tin overlap must be in [0, 0.5), got ${overlap}`, { key: 'overlap' });
   const norman = specs.map((s) => normanRadius(s));
+  // A neighbour is an atom of the environment, not the absorber (site 0, a core-hole atom): its
+  // Norman radius is that of the first other site of its species, the absorber's only if none.
   const bySpecies = new Map<string, number>();
   specs.forEach((s, i) => {
-    if (!bySpecies.has(s.species)) bySpecies.set(s.species, norman[i]);
+    if (i > 0 && !bySpecies.has(s.species)) bySpecies.set(s.species, norman[i]);
   });
+  if (specs.length > 0 && !bySpecies.has(specs[0].species)) bySpecies.set(specs[0].species, norman[0]);
   const radii = specs.map((s, i) => {
     let best = Infinity;
     for (const nb of s.neighbours) {
