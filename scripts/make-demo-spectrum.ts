@@ -8,8 +8,8 @@
  * seeded Gaussian noise in the detector currents. The mixture is stated below on purpose: the
  * demo checks that shellrank's ranking finds the major component.
  *
- *   hidden mixture: 80 % Ni on the octahedral site (ni-spinel-octahedral.xyz),
- *                   20 % Ni on the tetrahedral site (ni-spinel-tetrahedral.xyz)
+ *   hidden mixture: 70 % Ni on the octahedral site of the spinel (ni-spinel-octahedral.xyz),
+ *                   30 % Ni in segregated NiO particles (nio-rocksalt.xyz)
  *   S0^2 = 0.85, E0 shift 0, Debye temperature 500 K at 300 K, noise seed 2026
  *
  * mu(E) = pre(E) + step * [A(E) (1 + post(E)) + chi(k(E)) theta(E - E0)], A an arctangent edge
@@ -31,8 +31,8 @@ import { defaultProviders, DEFAULT_PROVIDER } from '../src/scatter/registry';
 
 const here = (p: string) => fileURLToPath(new URL(`../${p}`, import.meta.url));
 const MIXTURE = [
-  { file: 'structures/ni-spinel-octahedral.xyz', fraction: 0.8 },
-  { file: 'structures/ni-spinel-tetrahedral.xyz', fraction: 0.2 },
+  { file: 'structures/ni-spinel-octahedral.xyz', fraction: 0.7 },
+  { file: 'structures/nio-rocksalt.xyz', fraction: 0.3 },
 ];
 const E0 = edgeOf('Ni', 'K').energy;
 const provider = defaultProviders().get(DEFAULT_PROVIDER);
@@ -42,8 +42,9 @@ let chi: Float64Array | null = null;
 for (const part of MIXTURE) {
   const loaded = loadStructureFile(here(part.file));
   const set = shellsOfStructure(loaded.frames[0], { absorber: { index: 0 }, radius: 6, tolerance: 0.02 });
-  // correlated Debye needs a density: that of the spinel host, 56 atoms in a = 8.083 Å (from memory)
-  const sim = simulateSpectrum(set, provider, { amp: 0.85, disorder: { kind: 'debye', debyeTemperature: 500, temperature: 300, density: 56 / 8.083 ** 3 }, kMax: 16 });
+  // correlated Debye needs a density: 56 atoms in a = 8.083 Å for the spinel, 8 in a = 4.177 Å for NiO (from memory)
+  const density = part.file.includes('nio') ? 8 / 4.177 ** 3 : 56 / 8.083 ** 3;
+  const sim = simulateSpectrum(set, provider, { amp: 0.85, disorder: { kind: 'debye', debyeTemperature: 500, temperature: 300, density }, kMax: 16 });
   kGrid = sim.k;
   chi = chi ?? new Float64Array(sim.chi.length);
   for (let i = 0; i < chi.length; i++) chi[i] += part.fraction * sim.chi[i];

@@ -11,6 +11,9 @@ Structural inputs (from memory; handbook-type values, not measurements of ours):
 - MgAl2O4 spinel, Fd-3m (227, origin choice 2), a = 8.083 Å, Mg 8a (1/8,1/8,1/8),
   Al 16d (1/2,1/2,1/2), O 32e (u,u,u) with u = 0.2624.
 - NiO rock salt, a = 4.177 Å.  Ni fcc, a = 3.524 Å.
+- NiAl2O4 (inverse spinel, Ni on the octahedral sites), a = 8.048 Å, u = 0.2550.
+- Ni(OH)2 (brucite type, P-3m1), a = 3.126 Å, c = 4.605 Å, O (1/3, 2/3, 0.22), H (1/3, 2/3, 0.43).
+Oxygen-vacancy variants remove the nearest O of the Ni site.
 """
 import numpy as np
 from ase.build import bulk
@@ -50,6 +53,27 @@ write(f"{OUT}/ni-spinel-tetrahedral.xyz", cluster_around(tet, mg), format="xyz",
 octa = host.copy(); octa[al].symbol = "Ni"
 write(f"{OUT}/ni-spinel-octahedral.xyz", cluster_around(octa, al), format="xyz",
       comment="demo (invented scenario): Ni on the octahedral Al site of MgAl2O4 spinel, a = 8.083 A")
+def without_nearest_oxygen(cluster):
+    """The same cluster with the O nearest to the centre removed (an O vacancy next to Ni)."""
+    d = np.linalg.norm(cluster.positions, axis=1)
+    o = [i for i in np.argsort(d, kind="stable") if cluster[i].symbol == "O"][0]
+    del cluster[int(o)]
+    return cluster
+
+
+write(f"{OUT}/ni-spinel-octahedral-o-vacancy.xyz", without_nearest_oxygen(cluster_around(octa, al)), format="xyz",
+      comment="demo (invented scenario): Ni on the octahedral site with one neighbouring O vacancy")
+write(f"{OUT}/ni-spinel-tetrahedral-o-vacancy.xyz", without_nearest_oxygen(cluster_around(tet, mg)), format="xyz",
+      comment="demo (invented scenario): Ni on the tetrahedral site with one neighbouring O vacancy")
+inverse = crystal(["Ni", "Al", "O"], basis=[(0.5, 0.5, 0.5), (0.125, 0.125, 0.125), (0.2550, 0.2550, 0.2550)],
+                  spacegroup=227, setting=2, cellpar=[8.048, 8.048, 8.048, 90, 90, 90])
+ni = [i for i, s in enumerate(inverse.get_chemical_symbols()) if s == "Ni"][0]
+write(f"{OUT}/nial2o4-inverse-spinel.xyz", cluster_around(inverse, ni), format="xyz",
+      comment="demo (invented scenario): a separate NiAl2O4 phase (inverse spinel), a = 8.048 A")
+brucite = crystal(["Ni", "O", "H"], basis=[(0, 0, 0), (1 / 3, 2 / 3, 0.22), (1 / 3, 2 / 3, 0.43)],
+                  spacegroup=164, cellpar=[3.126, 3.126, 4.605, 90, 90, 120])
+write(f"{OUT}/ni-hydroxide-brucite.xyz", cluster_around(brucite, 0), format="xyz",
+      comment="demo (invented scenario): a Ni(OH)2 surface phase (brucite type)")
 write(f"{OUT}/nio-rocksalt.xyz", cluster_around(bulk("NiO", "rocksalt", a=4.177, cubic=True), 0), format="xyz",
       comment="demo (invented scenario): segregated NiO, rock salt a = 4.177 A")
 write(f"{OUT}/ni-metal-fcc.xyz", cluster_around(bulk("Ni", "fcc", a=3.524, cubic=True), 0), format="xyz",

@@ -114,11 +114,4 @@ describe('errors from the real binary (end to end)', () => {
     expect(run.code).toBe(2);
     expect(run.stderr).toMatch(/\n\s+at /);
   });
-  it('runs the demo and writes the files it names', () => {
-    const dir = tmp();
-    const run = cliProcess(['demo', '--out', join(dir, 'demo')]);
-    expect(run.code).toBe(0);
-    expect(run.stdout).toContain(join(dir, 'demo'));
-    expect(readdirSync(join(dir, 'demo')).filter((f) => f.endsWith('.simulated.csv')).length).toBeGreaterThanOrEqual(4);
-  });
 });

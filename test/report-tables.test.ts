@@ -239,3 +239,27 @@ describe('tables: ranking and parameter tables', () => {
     expect(csv).toContain('r,O 1,1.9512,0.0123,Å,,1.951(12)');
   });
 });
+
+describe('displayNames (candidate labels in plots and tables)', () => {
+  it('reduces structure paths to base names and keeps names that would collide', async () => {
+    const { displayNames } = await import('../src/report/types');
+    expect(displayNames(['mixture of s/a.xyz and s/b.cif', 's/a.xyz', 'traj.xyz#3'])).toEqual(['mixture of a and b', 'a', 'traj#3']);
+    expect(displayNames(['x/a.xyz', 'y/a.xyz'])).toEqual(['x/a.xyz', 'y/a.xyz']);
+  });
+});
+
+describe('reportModelFrom reads the rank stage JSON', () => {
+  it('takes the p-value and test method from candidates[].test (fabricated two-candidate ranking)', async () => {
+    const { reportModelFrom } = await import('../src/report/types');
+    const model = reportModelFrom({
+      candidates: [
+        { name: 'a.xyz', rank: 1, verdict: 'best', test: null, stats: { rFactor: 0.01 }, fit: { stats: { rFactor: 0.01 }, params: {}, shells: [] } },
+        { name: 'b.xyz', rank: 2, verdict: 'rejected', test: { method: 'F ratio', statistic: 9, pValue: 0.0004 }, stats: { rFactor: 0.1 }, fit: { stats: { rFactor: 0.1 }, params: {}, shells: [] } },
+      ],
+      settings: {},
+      provenance: {},
+    }) as unknown as { candidates: { name: string; pValue: number | null; significanceTest?: string }[] };
+    expect(model.candidates[1]).toMatchObject({ name: 'b', pValue: 0.0004, significanceTest: 'F ratio' });
+    expect(model.candidates[0].pValue).toBeNull();
+  });
+});

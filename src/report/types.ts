@@ -22,7 +22,8 @@
  *   `params: [a, b]`) or a matrix `{ "names": [...], "matrix": [[...]] }`;
  * - `warnings` (top level, per fit or per candidate) are strings or `{ "message" }` objects;
  * - a candidate's significance test is `pValue` beside the stats or
- *   `significance: { test, statistic, pValue, level }`;
+ *   `significance: { test, statistic, pValue, level }` or (as the rank stage writes it)
+ *   `test: { method, statistic, d1, d2, pValue }`;
  * - a rank result may state the "not distinguishable from the best" band of the score chart as
  *   `band: { metric, lower, upper, level }`; without it the band is drawn from the best score to
  *   the worst score among candidates whose verdict says "not distinguishable";
@@ -120,6 +121,8 @@ const candidateSchema = z.looseObject({
   fit: fitSchema.optional(),
   pValue: num.optional(),
   significance: z.looseObject({ test: z.string().optional(), statistic: num.optional(), pValue: num.optional(), level: num.optional() }).optional(),
+  // the rank stage's form: test: { method, statistic, d1, d2, pValue } (null for the best)
+  test: z.looseObject({ method: z.string().optional(), statistic: num.optional(), pValue: num.optional() }).nullable().optional(),
   warnings: z.array(warningSchema).optional(),
 });
 
@@ -385,16 +388,17 @@ export function reportModelFrom(document: unknown, file?: string): ReportModel {
   const parsed = rankSchema.safeParse(document);
   if (!parsed.success) throw issueToError(parsed.error, file, '');
   const rank = parsed.data;
+  const shortNames = displayNames(rank.candidates.map((c) => c.name));
   const candidates = rank.candidates
     .map((c, index) => {
       const base = {
-        name: c.name,
+        name: shortNames[index],
         file: c.file,
         rank: c.rank,
         verdict: c.verdict,
         stats: c.stats,
-        pValue: c.significance?.pValue ?? c.pValue ?? null,
-        test: c.significance?.test,
+        pValue: c.significance?.pValue ?? c.test?.pValue ?? c.pValue ?? null,
+        test: c.significance?.test ?? c.test?.method,
         warnings: (c.warnings ?? []).map(warningText),
       };
       const fit: FitResultJson = c.fit ?? { stats: c.stats, params: {}, shells: [] };
@@ -413,4 +417,16 @@ export function reportModelFrom(document: unknown, file?: string): ReportModel {
     band,
     source: document,
   };
+}
+
+/**
+ * Candidate names as plots and tables show them: structure-file paths inside a name reduced to the
+ * file's base name without its extension ("mixture of structures/a.xyz and structures/b.xyz" ->
+ * "mixture of a and b"), when that keeps every name distinct; otherwise the names as given.
+ * The full names stay in the JSON and in each candidate's file field.
+ */
+export function displayNames(names: readonly string[]): string[] {
+  const shorten = (name: string) => name.replace(/(?:[^\s#]*\/)?([^\s/#]+?)\.(?:xyz|extxyz|cif|pdb)\b/gi, '$1');
+  const short = names.map(shorten);
+  return new Set(short).size === short.length ? short : [...names];
 }

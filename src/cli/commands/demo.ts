@@ -1,49 +1,54 @@
 /**
- * `shellrank demo [--out DIR]`: the bundled demo on the invented scenario of structures/
- * (where does Ni sit in a Ni-doped spinel support?). For now it lists the shells of every
- * candidate and simulates its spectrum; it writes the files into DIR and prints where they are.
+ * `shellrank demo [--out DIR]`: the whole job on the bundled, invented scenario of structures/
+ * (where does Ni sit in a Ni-doped MgAl2O4 spinel support?): reduce the synthetic "measured"
+ * spectrum, rank the eight candidate structures plus the two-site mixture, and write the HTML
+ * report with its JSON, tables and plots. The demo composes the `reduce`, `rank` and `report`
+ * commands exactly as a user would type them, so it shows what they do.
  */
 import type { Command } from 'commander';
-import { readdirSync } from 'node:fs';
-import { basename, join, resolve } from 'node:path';
+import { join, relative, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { writeFileAtomic } from '../../core/files';
-import { loadStructureFile } from '../../read/load-structure';
-import { shellsOfStructure } from '../../paths/index';
-import { simulateSpectrum } from '../../model/simulate';
-import { defaultProviders, DEFAULT_PROVIDER } from '../../scatter/registry';
+import { ComputationError } from '../../core/errors';
 import type { CliIo } from '../io';
-import { textTable, toJson } from '../output';
-import { shellsDocument } from './shells';
-import { simulateCsv, simulateDocument } from './simulate';
 
-/** Folder of the bundled demo structures. */
+/** Folder of the bundled demo structures and data. */
 export const DEMO_STRUCTURES = fileURLToPath(new URL('../../../structures/', import.meta.url));
+export const DEMO_DATA = join(DEMO_STRUCTURES, 'demo-data', 'ni-spinel-sample.xdi');
 
 export function registerDemo(program: Command, io: CliIo): void {
   program.command('demo')
-    .description('run the bundled demo (invented scenario: Ni sites in a doped spinel) and write its results')
+    .description('run the bundled demo (invented scenario: Ni sites in a doped spinel): reduce, rank, report')
     .option('--out <dir>', 'output folder', 'demo-output')
-    .action((raw: { out: string }) => {
+    .action(async (raw: { out: string }) => {
+      // imported here: main.ts imports this module through the command list
+      const { runCli } = await import('../main');
       const outDir = resolve(io.cwd, raw.out);
-      const provider = defaultProviders().get(DEFAULT_PROVIDER);
-      const files = readdirSync(DEMO_STRUCTURES).filter((f) => f.endsWith('.xyz')).sort();
-      const summary: (string | number)[][] = [];
-      for (const name of files) {
-        const path = join(DEMO_STRUCTURES, name);
-        const loaded = loadStructureFile(path);
-        const set = shellsOfStructure(loaded.frames[0], { absorber: { index: 0 }, radius: 6, tolerance: 0.02, structureHash: loaded.sha256 });
-        const sim = simulateSpectrum(set, provider, { disorder: { kind: 'fixed', msrd: 0.005 } });
-        const stem = basename(name, '.xyz');
-        writeFileAtomic(join(outDir, `${stem}.shells.json`), toJson(shellsDocument(set, path), 8), [path]);
-        writeFileAtomic(join(outDir, `${stem}.simulated.csv`), simulateCsv(sim), [path]);
-        writeFileAtomic(join(outDir, `${stem}.simulated.json`), toJson(simulateDocument(sim, set, path), 8), [path]);
-        const first = set.paths[0];
-        summary.push([stem, set.paths.length, `${first.degeneracy} ${first.scatterer} at ${first.r.toFixed(3)} Å`]);
+      const show = (p: string) => relative(io.cwd, p) || '.';
+      // paths as the user would type them, relative to the working folder
+      const data = show(DEMO_DATA);
+      const structures = show(DEMO_STRUCTURES);
+      const octahedral = show(join(DEMO_STRUCTURES, 'ni-spinel-octahedral.xyz'));
+      const nio = show(join(DEMO_STRUCTURES, 'nio-rocksalt.xyz'));
+      const out = (name: string) => show(join(outDir, name));
+      const steps: { title: string; args: string[] }[] = [
+        { title: 'reduce the synthetic spectrum', args: ['reduce', data, '--out', out('chi.json'), '--plot', out('reduction.svg')] },
+        {
+          // S0^2 fixed, as if calibrated on a reference compound: the candidates differ in
+          // coordination number, which a free S0^2 would absorb
+          title: 'rank the candidates',
+          args: ['rank', out('chi.json'), structures, '--absorber', '#0', '--tolerance', '0.02', '--amp', '0.85',
+            '--mixture', `${octahedral},${nio}`, '--out', out('ranking'), '--quiet'],
+        },
+        { title: 'write the report', args: ['report', out('ranking/ranking.json'), '--out', out('.')] },
+      ];
+      io.stdout('shellrank demo — an invented scenario: where does Ni sit in a Ni-doped MgAl2O4 spinel support?\n');
+      io.stdout(`The "measured" spectrum ${data} is SYNTHETIC (scripts/make-demo-spectrum.ts).\n\n`);
+      for (const step of steps) {
+        io.stdout(`$ shellrank ${step.args.join(' ')}\n`);
+        const code = await runCli(step.args, { ...io, stdout: (t) => io.stdout(t), stderr: (t) => io.stderr(t) });
+        if (code !== 0) throw new ComputationError(`the demo step '${step.title}' failed (exit ${code})`);
+        io.stdout('\n');
       }
-      io.stdout('shellrank demo (invented scenario: where does Ni sit in a Ni-doped MgAl2O4 spinel?)\n\n');
-      io.stdout(textTable(['candidate', 'shells', 'first shell'], summary));
-      io.stdout(`\nscattering provider: ${provider.name}${provider.name === 'parametric' ? ' (approximate, for demonstration only)' : ''}\n`);
-      io.stdout(`wrote shells (*.shells.json) and simulated spectra (*.simulated.csv, *.simulated.json) to ${outDir}\n`);
+      io.stdout(`report: ${join(outDir, 'report.html')}\n`);
     });
 }
