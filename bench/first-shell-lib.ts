@@ -63,7 +63,7 @@ export function shellsAndTables(sample: Sample, provider: ScatteringProvider, a 
   return { pathSet, shells, tables };
 }
 
-export interface FitOptions { kMin?: number; kMax?: number; kWeight?: number; fixR?: boolean; freeC3?: boolean }
+export interface FitOptions { kMin?: number; kMax?: number; kWeighting?: number; fixR?: boolean; freeC3?: boolean }
 
 export interface ShellFit { dR: number; amp: number; e0: number; msrd: number[]; c3: number; params: ModelParameters; window: { min: number; max: number } }
 
@@ -72,7 +72,7 @@ export function fitShells(sample: Sample, k: Float64Array, chi: Float64Array, sh
   const kMin = options.kMin ?? 3;
   const top = Math.min(options.kMax ?? 14, k[k.length - 1] - 0.5);
   const window = { shape: 'hann' as const, min: kMin, max: top, taper: 1 };
-  const transform = (x: Float64Array): ComplexSpectrum => forwardTransform(k, x, { kWeight: options.kWeight ?? 2, window });
+  const transform = (x: Float64Array): ComplexSpectrum => forwardTransform(k, x, { kWeighting: options.kWeighting ?? 2, window });
   const data = transform(chi);
   const inRange: number[] = [];
   for (let j = 0; j < data.x.length; j++) if (data.x[j] >= sample.rMin && data.x[j] <= sample.rMax) inRange.push(j);
@@ -129,8 +129,8 @@ export function fitShells(sample: Sample, k: Float64Array, chi: Float64Array, sh
  * Phase (continuous, rad) and magnitude of the Fourier-filtered k^w chi: forward transform with the
  * fit's k window, back transform with a box-like R window [rMin, rMax], on the q grid (1/Å).
  */
-export function filteredPhase(k: Float64Array, chi: Float64Array, window: { min: number; max: number }, rMin: number, rMax: number, kWeight = 2): { q: Float64Array; phase: Float64Array; magnitude: Float64Array } {
-  const forward = forwardTransform(k, chi, { kWeight, window: { shape: 'hann', min: window.min, max: window.max, taper: 1 } });
+export function filteredPhase(k: Float64Array, chi: Float64Array, window: { min: number; max: number }, rMin: number, rMax: number, kWeighting = 2): { q: Float64Array; phase: Float64Array; magnitude: Float64Array } {
+  const forward = forwardTransform(k, chi, { kWeighting, window: { shape: 'hann', min: window.min, max: window.max, taper: 1 } });
   const back = backTransform(forward, { window: { shape: 'hann', min: rMin, max: rMax, taper: 0.1 } });
   const n = back.x.length;
   const phase = new Float64Array(n);

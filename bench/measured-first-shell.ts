@@ -54,7 +54,7 @@ const firstOnly = args.includes('--first-only');
 const freeC3 = args.includes('--c3');
 const kMin = Number(option('--kmin') ?? 3);
 const kMax = Number(option('--kmax') ?? 14);
-const kWeight = Number(option('--kw') ?? 2);
+const kWeighting = Number(option('--kw') ?? 2);
 const wanted = (option('--samples') ?? 'Cu,Fe,ZnSe').split(',');
 const outFile = option('--out');
 
@@ -119,7 +119,7 @@ function fitSample(sample: Sample) {
   const top = Math.min(kMax, chi.k[chi.k.length - 1] - 0.5);
   const window: WindowSpec = { shape: 'hann', min: kMin, max: top, taper: 1 };
   const k = chi.k;
-  const transform = (x: Float64Array): ComplexSpectrum => forwardTransform(k, x, { kWeight, window });
+  const transform = (x: Float64Array): ComplexSpectrum => forwardTransform(k, x, { kWeighting, window });
   const data = transform(chi.chi);
   const inRange: number[] = [];
   for (let j = 0; j < data.x.length; j++) if (data.x[j] >= sample.rMin && data.x[j] <= sample.rMax) inRange.push(j);
@@ -205,7 +205,7 @@ if (!existsSync(DATA)) {
   process.exit(1);
 }
 const rows = SAMPLES.filter((s) => wanted.includes(s.name)).map(fitSample);
-const text = JSON.stringify({ benchmark: 'measured-first-shell', kWeight, settings, freeC3, firstOnly, rows }, null, 1);
+const text = JSON.stringify({ benchmark: 'measured-first-shell', kWeighting, settings, freeC3, firstOnly, rows }, null, 1);
 // (one JSON document; rows hold dR, amp (S0^2), e0, msrd, rFactor per sample)
 console.log(text);
 if (outFile) writeFileSync(outFile, text + '\n');

@@ -66,7 +66,7 @@ describe('shellrank simulate', () => {
     const run = await cli(['simulate', file, '--absorber', 'Cu', '--debye-temp', '315', '--temp', '300', '--rmax', '3', '--out', join(dir, 'sim.csv')]);
     expect(run.code).toBe(0);
     const lines = readFileSync(join(dir, 'sim.csv'), 'utf8').trim().split('\n');
-    expect(lines[1]).toBe('k,chi,r,chiR');
+    expect(lines[1]).toBe('k,chi,r,chiRMagnitude');
     const rows = lines.slice(2).map((l) => l.split(',').map(Number));
     const rPeak = rows.filter((r) => Number.isFinite(r[2]) && r[2] > 1).reduce((a, b) => (b[3] > a[3] ? b : a));
     expect(rPeak[2]).toBeLessThan(2.5561);

@@ -36,7 +36,7 @@ describe('forwardTransform', () => {
   it('puts the |chi(R)| peak of a single shell with constant amplitude and zero phase at its R, within one R step (issue 2 acceptance)', () => {
     for (const R of [1.8, 2.5561, 3.3]) {
       const chi = k.map((kk) => (kk > 0 ? Math.sin(2 * kk * R) / (kk * kk) : 0));
-      const t = forwardTransform(k, chi, { kWeight: 2, window: { shape: 'hann', min: 3, max: 14, taper: 1 } });
+      const t = forwardTransform(k, chi, { kWeighting: 2, window: { shape: 'hann', min: 3, max: 14, taper: 1 } });
       const mag = magnitude(t);
       let best = 0;
       for (let j = 1; j < mag.length; j++) if (mag[j] > mag[best]) best = j;
@@ -47,7 +47,7 @@ describe('forwardTransform', () => {
   it('gives the analytic peak height of a boxed sine: |chi(R)| = (kmax - kmin) / (2 sqrt(pi)) (derived from the transform definition)', () => {
     const R = 2.5;
     const chi = k.map((kk) => Math.sin(2 * kk * R));
-    const t = forwardTransform(k, chi, { kWeight: 0, window: { shape: 'box', min: 3, max: 14, taper: 0 } });
+    const t = forwardTransform(k, chi, { kWeighting: 0, window: { shape: 'box', min: 3, max: 14, taper: 0 } });
     const mag = magnitude(t);
     // R = 2.5 lies exactly on the grid when dR = pi / (2048 * 0.05): not exactly, so take the max
     let peak = 0;
@@ -57,14 +57,14 @@ describe('forwardTransform', () => {
   });
   it('back-transform of the unwindowed forward transform returns k^w chi(k) (unitary pair; tolerance 1e-4, the size of the dropped Nyquist term)', () => {
     const chi = k.map((kk) => Math.sin(2 * kk * 2.2) * Math.exp(-0.01 * kk * kk));
-    const t = forwardTransform(k, chi, { kWeight: 1, window: { shape: 'box', min: 0, max: 20, taper: 0 } });
+    const t = forwardTransform(k, chi, { kWeighting: 1, window: { shape: 'box', min: 0, max: 20, taper: 0 } });
     // window covering all R: Re of the back transform is k chi(k), except near the discontinuity at 20
     const back = backTransform(t, { window: { shape: 'box', min: -1, max: 1e9, taper: 0 } });
     for (let i = 20; i < 380; i++) expect(Math.abs(back.re[i] - k[i] * chi[i])).toBeLessThan(1e-4);
   });
   it('refuses a non-uniform grid', () => {
     const bad = Float64Array.from([0, 0.05, 0.11, 0.15]);
-    expect(() => forwardTransform(bad, new Float64Array(4), { kWeight: 0, window: { shape: 'box', min: 0, max: 1, taper: 0 } })).toThrow(/uniform/);
+    expect(() => forwardTransform(bad, new Float64Array(4), { kWeighting: 0, window: { shape: 'box', min: 0, max: 1, taper: 0 } })).toThrow(/uniform/);
   });
 });
 

@@ -21,7 +21,7 @@ function reduced(file: string): Chi {
 /** |chi(R)| with k-weight 2 and a hann window over k 3-14 1/Å (taper 1): common practice, no source. */
 function transform(chi: Chi) {
   const kMax = Math.min(14, chi.k[chi.k.length - 1] - 0.5);
-  const ft = forwardTransform(chi.k, chi.chi, { kWeight: 2, window: { shape: 'hann', min: 3, max: kMax, taper: 1 } });
+  const ft = forwardTransform(chi.k, chi.chi, { kWeighting: 2, window: { shape: 'hann', min: 3, max: kMax, taper: 1 } });
   return { r: ft.x, mag: magnitude(ft) };
 }
 
@@ -74,7 +74,7 @@ describe.skipIf(!existsSync(DATA))('reduction of measured spectra (skipped: ../s
     expect(r.e0).toMatchObject({ method: 'smoothed-derivative maximum', tabulatedEdge: edgeOf('Cu', 'K').energy });
     expect(r.preEdge).toMatchObject({ requested: [-150, -30], order: 1 });
     expect(r.postEdge).toMatchObject({ requested: [150, null], order: 2 });
-    expect(r.background).toMatchObject({ cutoffR: 1, kWeight: 2, clampLow: 0, clampHigh: 1 });
+    expect(r.background).toMatchObject({ cutoffR: 1, kWeighting: 2, clampLow: 0, clampHigh: 1 });
     // Nyquist knot spacing pi / (2 R_bkg) (Newville et al. 1993) is an upper bound on the spacing
     expect(r.background.knotSpacing).toBeLessThanOrEqual(Math.PI / 2 + 1e-12);
     expect(r.kGrid).toMatchObject({ step: 0.05, min: 0 });

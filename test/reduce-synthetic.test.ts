@@ -137,7 +137,7 @@ describe('kernels against oracles', () => {
     const norm = interpolateCubic(scan.energy, scan.mu.map((m) => m / 1.2), energy);
     const settings = { ...DEFAULT_BACKGROUND, clampHigh: 0, regularisation: 0 };
     const fit = fitBackground(k, norm, settings);
-    const ft = forwardTransform(k, fit.chi, { kWeight: 2, window: { shape: 'hann', min: 0, max: 15, taper: 1 }, nfft: BACKGROUND_NFFT });
+    const ft = forwardTransform(k, fit.chi, { kWeighting: 2, window: { shape: 'hann', min: 0, max: 15, taper: 1 }, nfft: BACKGROUND_NFFT });
     const mag = magnitude(ft);
     let s = 0;
     for (let j = 0; j < fit.rPoints; j++) s += mag[j] * mag[j];

@@ -70,8 +70,8 @@ const cases: Case[] = [
   { plot: shellContributionsPlot('shells', fits[0]), titles: ['R (Å)', '|χ(R)| (Å⁻³)'] },
   { plot: scoreChart(model), titles: ['R-factor'] },
   { plot: muPlot({ energy, mu, preEdge: pre, postEdge: post, background: post, e0: 9000 }), titles: ['E (eV)', 'μ(E) (absorbance)'] },
-  { plot: chiKPlot({ k: chi.k, chi: chi.data, kWeight: 3, window: { shape: 'hann', min: 3, max: 14, taper: 1 } }), titles: ['k (Å⁻¹)', 'k³χ(k) (Å⁻³)'] },
-  { plot: chiRPlot({ k: chi.k, chi: chi.data, kWeight: 1, window: { shape: 'hann', min: 3, max: 14, taper: 1 } }), titles: ['R (Å)', '|χ(R)|, Re χ(R) (Å⁻²)'] },
+  { plot: chiKPlot({ k: chi.k, chi: chi.data, kWeighting: 3, window: { shape: 'hann', min: 3, max: 14, taper: 1 } }), titles: ['k (Å⁻¹)', 'k³χ(k) (Å⁻³)'] },
+  { plot: chiRPlot({ k: chi.k, chi: chi.data, kWeighting: 1, window: { shape: 'hann', min: 3, max: 14, taper: 1 } }), titles: ['R (Å)', '|χ(R)|, Re χ(R) (Å⁻²)'] },
 ];
 
 describe('plot units and symbols', () => {

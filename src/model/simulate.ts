@@ -28,7 +28,7 @@ export interface SimulateSettings {
   e0?: number;
   disorder: DisorderSpec;
   /** k-weight and window for |chi(R)|. */
-  kWeight?: number;
+  kWeighting?: number;
   window?: WindowSpec;
   /** Only paths with r <= rMax (Å) are included (default: all). */
   rMax?: number;
@@ -41,7 +41,7 @@ export interface SimulatedSpectrum {
   perPath: Float64Array[];
   paths: (ScatteringPath & { msrd: number })[];
   r: Float64Array;
-  chiR: Float64Array;
+  chiRMagnitude: Float64Array;
   /** The scattering tables used (same order as paths). */
   tables: ScatteringTable[];
   settings: Required<Omit<SimulateSettings, 'rMax'>> & { rMax: number | null; provider: string };
@@ -65,7 +65,7 @@ export function simulateSpectrum(pathSet: PathSet, provider: ScatteringProvider,
   const kStep = settings.kStep ?? 0.05;
   if (!(kStep > 0) || !(kMax > kMin) || kMin < 0) throw new InputError(`bad k grid ${kMin}:${kMax} step ${kStep}`, { key: '--k' });
   const k = uniformGrid(kMin, kMax, kStep);
-  const kWeight = settings.kWeight ?? 2;
+  const kWeighting = settings.kWeighting ?? 2;
   const window: WindowSpec = settings.window ?? { shape: 'hann', min: 3, max: Math.min(14, kMax), taper: 1 };
   const amp = settings.amp ?? 1;
   const e0 = settings.e0 ?? 0;
@@ -80,15 +80,15 @@ export function simulateSpectrum(pathSet: PathSet, provider: ScatteringProvider,
     paths: paths.map((p) => ({ n: p.degeneracy, r: p.r, msrd: p.msrd, c3: 0, c4: 0 })),
   };
   const { chi, perPath } = evaluateModel(k, tables, params, { perPath: true });
-  const transform = forwardTransform(k, chi, { kWeight, window });
-  const used = { kMin, kMax, kStep, amp, e0, disorder: settings.disorder, kWeight, window, rMax, provider: provider.name };
+  const transform = forwardTransform(k, chi, { kWeighting, window });
+  const used = { kMin, kMax, kStep, amp, e0, disorder: settings.disorder, kWeighting, window, rMax, provider: provider.name };
   return {
     k,
     chi,
     perPath: perPath as Float64Array[],
     paths,
     r: transform.x,
-    chiR: magnitude(transform),
+    chiRMagnitude: magnitude(transform),
     tables,
     settings: used,
     provenance: makeProvenance({ stage: 'simulate', ...used }, [{ role: 'paths', sha256: pathSet.provenance.id }]),

@@ -24,7 +24,7 @@ export interface ComplexSpectrum {
 
 export interface ForwardSettings {
   /** k-weight w in k^w chi(k). */
-  kWeight: number;
+  kWeighting: number;
   window: WindowSpec;
   /** FFT length (power of two); default 2048. */
   nfft?: number;
@@ -69,7 +69,7 @@ export function forwardTransform(k: Float64Array, chi: Float64Array, settings: F
   const window = windowOnGrid(settings.window, k);
   const re = new Float64Array(n);
   const im = new Float64Array(n);
-  const w = settings.kWeight;
+  const w = settings.kWeighting;
   for (let i = 0; i < k.length; i++) re[offset + i] = chi[i] * Math.pow(k[i], w) * window[i];
   fftInPlace(re, im, 1);
   const scale = step / Math.sqrt(Math.PI);

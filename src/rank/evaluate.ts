@@ -207,7 +207,7 @@ function evaluateRefine(ctx: EvaluationContext, components: ComponentShells[]): 
     // unweighted chi(k) of data, model and each shell, in the shape of the fit document's curves
     curves: result.curves.map((c) => ({
       name: c.name,
-      kWeight: w.kWeights[0],
+      kWeighting: w.kWeights[0],
       k: Array.from(c.k, (x) => round(x, 8)),
       data: Array.from(c.data, (x) => round(x, 8)),
       model: Array.from(c.model, (x) => round(x, 8)),

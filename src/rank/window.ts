@@ -67,12 +67,12 @@ export function projectChi(window: DataWindow, chi: Float64Array, out: Float64Ar
   const space = d.spec.space;
   let row = 0;
   for (const noise of d.noise) {
-    const w = noise.kWeight;
+    const w = noise.kWeighting;
     if (space === 'k') {
       for (const i of d.kInside) out[row++] = (scale * d.windowK[i] * Math.pow(d.modelK[i], w) * chi[i]) / noise.epsK;
       continue;
     }
-    const spectrum = forwardTransform(d.modelK, chi, { kWeight: w, window: d.kWindow });
+    const spectrum = forwardTransform(d.modelK, chi, { kWeighting: w, window: d.kWindow });
     if (space === 'r') {
       const sigma = noise.epsR / Math.SQRT2;
       for (const j of d.rInside) out[row++] = (scale * spectrum.re[j]) / sigma;

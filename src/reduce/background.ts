@@ -26,7 +26,7 @@ export interface BackgroundSettings {
   /** Cutoff distance R_bkg, Å; default 1.0. */
   cutoffR: number;
   /** k-weight of the transform that is minimised; default 2. */
-  kWeight: number;
+  kWeighting: number;
   /** Start of the spline, 1/Å; default 0 (at E0). */
   kMin: number;
   /** End of the spline, 1/Å; null: the last grid point of the data. */
@@ -47,7 +47,7 @@ export interface BackgroundSettings {
 
 export const DEFAULT_BACKGROUND: BackgroundSettings = {
   cutoffR: 1.0,
-  kWeight: 2,
+  kWeighting: 2,
   kMin: 0,
   kMax: null,
   windowShape: 'hann',
@@ -115,7 +115,7 @@ export function fitBackground(k: Float64Array, norm: Float64Array, settings: Bac
   // weights k^w W(k) dk / sqrt(pi), computed once; exp(2 i k_i R_m) by rotation from k_first,
   // since k_i = k_first + (i - first) dk (uniform grid)
   const g = new Float64Array(n);
-  for (let i = first; i <= last; i++) g[i] = scale * Math.pow(k[i], settings.kWeight) * window[i];
+  for (let i = first; i <= last; i++) g[i] = scale * Math.pow(k[i], settings.kWeighting) * window[i];
   for (let m = 0; m < rCount; m++) {
     const twoR = 2 * m * dR;
     const re = 2 * m;

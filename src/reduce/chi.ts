@@ -11,7 +11,7 @@
  *       "element": "Cu" | null, "edge": "K" | null,
  *       "e0": eV, "edgeStep": mu units,
  *       "k": [1/Å, uniform], "chi": [dimensionless, same length],
- *       "noise": { "k": rms of chi per point, "r": rms |chi(R)| (Å^-(w+1)), "kWeight": w,
+ *       "noise": { "k": rms of chi per point, "r": rms |chi(R)| (Å^-(w+1)), "kWeighting": w,
  *                  "kRange": [1/Å, 1/Å], "rRange": [Å, Å], "windowShape": "hann", "windowTaper": 1/Å },
  *       "normalised": null | { "energy": [eV], "mu": [], "preEdge": [], "postEdge": [],
  *                  "normalised": [], "flattened": [], "background": [mu units; pre-edge line below E0] },
@@ -195,7 +195,7 @@ const CHI_SCHEMA = z.object({
   noise: z.object({
     k: z.number().nullable(),
     r: z.number(),
-    kWeight: z.number(),
+    kWeighting: z.number(),
     kRange: z.tuple([z.number(), z.number()]),
     rRange: z.tuple([z.number(), z.number()]),
     windowShape: z.enum(['hann', 'box', 'kaiser', 'welch']),

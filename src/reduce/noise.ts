@@ -12,7 +12,7 @@ import { ComputationError } from '../core/errors';
 
 export interface NoiseSettings {
   /** k-weight of the transform; default 2. */
-  kWeight: number;
+  kWeighting: number;
   /** k range of the window, 1/Å; null end: the end of the data; default [2, null]. */
   kRange: [number, number | null];
   windowShape: WindowShape;
@@ -22,14 +22,14 @@ export interface NoiseSettings {
   rRange: [number, number];
 }
 
-export const DEFAULT_NOISE: NoiseSettings = { kWeight: 2, kRange: [2, null], windowShape: 'hann', windowTaper: 1, rRange: [15, 25] };
+export const DEFAULT_NOISE: NoiseSettings = { kWeighting: 2, kRange: [2, null], windowShape: 'hann', windowTaper: 1, rRange: [15, 25] };
 
 export interface NoiseEstimate {
   /** rms noise of chi(k) per grid point (dimensionless), assuming white noise. */
   k: number;
   /** rms |chi(R)| over rRange (Å^-(w+1)). */
   r: number;
-  kWeight: number;
+  kWeighting: number;
   /** k range actually used, 1/Å. */
   kRange: [number, number];
   rRange: [number, number];
@@ -44,7 +44,7 @@ export function estimateNoise(k: Float64Array, chi: Float64Array, settings: Nois
   const dk = k[1] - k[0];
   // R reaches pi / (2 dk) whatever the FFT length (31 Å for dk = 0.05); the length only has to hold the grid
   const nfft = Math.max(2048, 1 << Math.ceil(Math.log2(Math.round(k[k.length - 1] / dk) + 2)));
-  const spectrum = forwardTransform(k, chi, { kWeight: settings.kWeight, window, nfft });
+  const spectrum = forwardTransform(k, chi, { kWeighting: settings.kWeighting, window, nfft });
   const mag = magnitude(spectrum);
   let s = 0;
   let count = 0;
@@ -59,9 +59,9 @@ export function estimateNoise(k: Float64Array, chi: Float64Array, settings: Nois
   const w = windowOnGrid(window, k);
   let sw = 0;
   for (let i = 0; i < k.length; i++) {
-    const g = Math.pow(k[i], settings.kWeight) * w[i];
+    const g = Math.pow(k[i], settings.kWeighting) * w[i];
     sw += g * g;
   }
   const epsK = sw > 0 ? (epsR * Math.sqrt(Math.PI)) / (dk * Math.sqrt(sw)) : NaN;
-  return { k: epsK, r: epsR, kWeight: settings.kWeight, kRange: [window.min, window.max], rRange: [...settings.rRange], windowShape: settings.windowShape, windowTaper: settings.windowTaper };
+  return { k: epsK, r: epsR, kWeighting: settings.kWeighting, kRange: [window.min, window.max], rRange: [...settings.rRange], windowShape: settings.windowShape, windowTaper: settings.windowTaper };
 }

@@ -79,7 +79,7 @@ export function resolveReductionSettings(options: ReductionOptions = {}): Reduct
   if (![0, 1, 2, 3].includes(n.postEdgeOrder)) throw bad('postEdgeOrder', `the post-edge order must be 0-3, got ${n.postEdgeOrder}`);
   const b = s.background;
   if (!(b.cutoffR > 0 && b.cutoffR < 5)) throw bad('bkgCutoff', `the background cutoff must lie between 0 and 5 Å, got ${b.cutoffR}`);
-  if (!(b.kWeight >= 0 && b.kWeight <= 4)) throw bad('background.kWeight', `the k-weight must lie between 0 and 4, got ${b.kWeight}`);
+  if (!(b.kWeighting >= 0 && b.kWeighting <= 4)) throw bad('background.kWeighting', `the k-weight must lie between 0 and 4, got ${b.kWeighting}`);
   if (!(b.kMin >= 0)) throw bad('background.kMin', `kMin must be at least 0, got ${b.kMin}`);
   if (b.kMax !== null && !(b.kMax > b.kMin + 1)) throw bad('background.kMax', `kMax must exceed kMin by at least 1 1/Å`);
   if (!(b.clampLow >= 0) || !(b.clampHigh >= 0)) throw bad('clamp', 'clamp weights must be non-negative');
@@ -215,7 +215,7 @@ export function reduceScan(input: Scan, options: ReductionOptions = {}): Reducti
       knots: bkg.basis.intervals + 1,
       basisFunctions: bkg.basis.count,
       kRange: [bkg.basis.a, bkg.basis.b],
-      kWeight: settings.background.kWeight,
+      kWeighting: settings.background.kWeighting,
       window: { shape: settings.background.windowShape, taper: settings.background.windowTaper },
       clampLow: settings.background.clampLow,
       clampHigh: settings.background.clampHigh,

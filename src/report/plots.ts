@@ -92,15 +92,15 @@ export function inverseAngstrom(power: number): string {
 }
 
 /** Axis title of k^w chi(k): "χ(k)", "kχ(k) (Å⁻¹)", "k²χ(k) (Å⁻²)". */
-export function kWeightedTitle(kWeight: number): string {
-  const prefix = kWeight === 0 ? '' : kWeight === 1 ? 'k' : `k${superscript(kWeight)}`;
-  return kWeight === 0 ? 'χ(k)' : `${prefix}χ(k) (${inverseAngstrom(kWeight)})`;
+export function kWeightedTitle(kWeighting: number): string {
+  const prefix = kWeighting === 0 ? '' : kWeighting === 1 ? 'k' : `k${superscript(kWeighting)}`;
+  return kWeighting === 0 ? 'χ(k)' : `${prefix}χ(k) (${inverseAngstrom(kWeighting)})`;
 }
 
 /** Axis title of the transform of k^w chi(k): "|χ(R)| (Å⁻³)" for w = 2 (unit Å^-(w+1)). */
-export function chiRTitle(kWeight: number, part: 'magnitude' | 'real' | 'imaginary' = 'magnitude'): string {
+export function chiRTitle(kWeighting: number, part: 'magnitude' | 'real' | 'imaginary' = 'magnitude'): string {
   const symbol = part === 'magnitude' ? '|χ(R)|' : part === 'real' ? 'Re χ(R)' : 'Im χ(R)';
-  return `${symbol} (${inverseAngstrom(kWeight + 1)})`;
+  return `${symbol} (${inverseAngstrom(kWeighting + 1)})`;
 }
 
 export const K_TITLE = 'k (Å⁻¹)';
@@ -349,7 +349,7 @@ export function stackedLinePlot(name: string, input: StackedPlotInput): Plot {
 /** Options shared by the fit plots. */
 export interface FitPlotOptions extends PlotSize {
   /** k-weight of the plots; default the fit's own. */
-  kWeight?: number;
+  kWeighting?: number;
   /** Upper end of the R axis, Å; default 6. */
   rMax?: number;
   /** Label of the measured data in legends; default 'data'. */
@@ -391,7 +391,7 @@ function windowOf(c: CurvesView): WindowSpec {
 export function kOverlayPlot(fits: readonly LabelledCurves[], options: FitPlotOptions = {}): Plot {
   if (fits.length === 0) throw new RangeError('kOverlayPlot needs at least one fit with curves');
   const first = fits[0].curves;
-  const w = options.kWeight ?? first.kWeight;
+  const w = options.kWeighting ?? first.kWeighting;
   const dataLabel = options.dataLabel ?? 'data';
   const window = first.window ? [{ from: first.window.min, to: first.window.max }] : [];
   const main: LineSeries[] = [{ label: dataLabel, x: first.k, y: weighted(first.k, first.data, w), colour: DATA_COLOUR, dash: [], strokeWidth: 1.6 }];
@@ -413,10 +413,10 @@ export function kOverlayPlot(fits: readonly LabelledCurves[], options: FitPlotOp
 }
 
 /** The transform of k^w chi(k) with the fit's window, or null when the grid does not allow it. */
-export function transformCurve(k: Float64Array, chi: Float64Array, kWeight: number, window: WindowSpec): ComplexSpectrum | null {
+export function transformCurve(k: Float64Array, chi: Float64Array, kWeighting: number, window: WindowSpec): ComplexSpectrum | null {
   for (let i = 0; i < chi.length; i++) if (!Number.isFinite(chi[i])) return null;
   try {
-    return forwardTransform(k, chi, { kWeight, window });
+    return forwardTransform(k, chi, { kWeighting, window });
   } catch (e) {
     if (e instanceof RangeError) return null;
     throw e;
@@ -438,7 +438,7 @@ function upTo(s: ComplexSpectrum, xMax: number): ComplexSpectrum {
 export function rOverlayPlot(fits: readonly LabelledCurves[], options: FitPlotOptions = {}): Plot {
   if (fits.length === 0) throw new RangeError('rOverlayPlot needs at least one fit with curves');
   const first = fits[0].curves;
-  const w = options.kWeight ?? first.kWeight;
+  const w = options.kWeighting ?? first.kWeighting;
   const window = windowOf(first);
   const rMax = options.rMax ?? 6;
   const notes: string[] = [];
@@ -491,7 +491,7 @@ export function rOverlayPlot(fits: readonly LabelledCurves[], options: FitPlotOp
  */
 export function shellContributionsPlot(name: string, fit: LabelledCurves, options: FitPlotOptions = {}): Plot {
   const c = fit.curves;
-  const w = options.kWeight ?? c.kWeight;
+  const w = options.kWeighting ?? c.kWeighting;
   const window = windowOf(c);
   const rMax = options.rMax ?? 6;
   const total = transformCurve(c.k, c.model, w, window);
@@ -678,7 +678,7 @@ export function muPlot(input: MuPlotInput, size: PlotSize = {}): Plot {
 export interface ChiPlotInput {
   k: Float64Array;
   chi: Float64Array;
-  kWeight: number;
+  kWeighting: number;
   window?: WindowSpec;
   label?: string;
   title?: string;
@@ -693,8 +693,8 @@ export function chiKPlot(input: ChiPlotInput, size: PlotSize = {}): Plot {
     title: input.title ?? 'k-weighted χ(k)',
     xTitle: K_TITLE,
     panels: [{
-      series: [{ label: input.label ?? 'data', x: input.k, y: weighted(input.k, input.chi, input.kWeight), colour: DATA_COLOUR, dash: [] }],
-      yTitle: kWeightedTitle(input.kWeight),
+      series: [{ label: input.label ?? 'data', x: input.k, y: weighted(input.k, input.chi, input.kWeighting), colour: DATA_COLOUR, dash: [] }],
+      yTitle: kWeightedTitle(input.kWeighting),
       height: 150,
       shade: input.window ? [{ from: input.window.min, to: input.window.max }] : [],
       zeroLine: true,
@@ -705,7 +705,7 @@ export function chiKPlot(input: ChiPlotInput, size: PlotSize = {}): Plot {
 /** |chi(R)| (and Re chi(R) dashed) of k^w chi(k) with the given window (default hann over the whole grid). */
 export function chiRPlot(input: ChiPlotInput, size: PlotSize = {}): Plot {
   const window = input.window ?? { shape: 'hann', min: input.k[0], max: input.k[input.k.length - 1], taper: 1 };
-  const spectrum = transformCurve(input.k, input.chi, input.kWeight, window);
+  const spectrum = transformCurve(input.k, input.chi, input.kWeighting, window);
   if (!spectrum) throw new RangeError('chiRPlot: chi(k) must be finite on a uniform grid that starts at a multiple of its step');
   const s = upTo(spectrum, input.rMax ?? 6);
   return stackedLinePlot('reduce-chi-r', {
@@ -718,7 +718,7 @@ export function chiRPlot(input: ChiPlotInput, size: PlotSize = {}): Plot {
         { label: `|χ(R)|${input.label ? ` ${input.label}` : ''}`, x: s.x, y: magnitude(s), colour: DATA_COLOUR, dash: [], strokeWidth: 1.5 },
         { label: 'Re χ(R)', x: s.x, y: s.re, colour: OKABE_ITO.blue, dash: [4, 2], strokeWidth: 1 },
       ],
-      yTitle: `|χ(R)|, Re χ(R) (${inverseAngstrom(input.kWeight + 1)})`,
+      yTitle: `|χ(R)|, Re χ(R) (${inverseAngstrom(input.kWeighting + 1)})`,
       height: 150,
       zeroLine: true,
     }],

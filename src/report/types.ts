@@ -30,7 +30,7 @@
  * - **curves** (proposed here; neither issue fixes them): a fit may carry the data and model it was
  *   refined on, so the report can draw overlays:
  *
- *       "curves": { "kWeight": w, "k": [1/Å, uniform from a multiple of its step],
+ *       "curves": { "kWeighting": w, "k": [1/Å, uniform from a multiple of its step],
  *                   "data": [chi(k), unweighted], "model": [chi(k), unweighted],
  *                   "window": { "shape", "min", "max", "taper" },      // k window of the transform
  *                   "rRange": [Å, Å],                                  // fit range in R, if any
@@ -89,7 +89,7 @@ const correlationMatrixSchema = z.looseObject({ names: z.array(z.string()), matr
 const windowSchema = z.looseObject({ shape: z.string(), min: z.number(), max: z.number(), taper: z.number().optional() });
 
 const curvesSchema = z.looseObject({
-  kWeight: z.number(),
+  kWeighting: z.number(),
   k: z.array(z.number()),
   data: z.array(num),
   model: z.array(num),
@@ -181,7 +181,7 @@ export interface CorrelationView { a: string; b: string; value: number }
 
 /** The curves of one fit, typed arrays, unweighted chi(k). */
 export interface CurvesView {
-  kWeight: number;
+  kWeighting: number;
   k: Float64Array;
   data: Float64Array;
   model: Float64Array;
@@ -287,7 +287,7 @@ function curvesView(c: FitCurvesJson | undefined, file: string | undefined, key:
   check('model', c.model.length);
   (c.shells ?? []).forEach((s, i) => check(`shells.${i}.chi`, s.chi.length));
   return {
-    kWeight: c.kWeight,
+    kWeighting: c.kWeighting,
     k: Float64Array.from(c.k),
     data: toFloat(c.data),
     model: toFloat(c.model),

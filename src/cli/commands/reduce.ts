@@ -24,7 +24,7 @@ interface ReduceCliOptions {
   postEdge?: string;
   preOrder?: string;
   postOrder?: string;
-  kWeight?: string;
+  kWeighting?: string;
   kMax?: string;
   clamps?: string;
   signal?: string;
@@ -96,7 +96,7 @@ function reductionOptions(o: ReduceCliOptions): ReductionOptions {
   if (o.postEdge !== undefined) r.normalisation!.postEdge = parseOpenRange('--post-edge', o.postEdge);
   if (o.preOrder !== undefined) r.normalisation!.preEdgeOrder = parseInteger('--pre-order', o.preOrder);
   if (o.postOrder !== undefined) r.normalisation!.postEdgeOrder = parseInteger('--post-order', o.postOrder);
-  if (o.kWeight !== undefined) r.background!.kWeight = parseNumber('--k-weight', o.kWeight, { min: 0, max: 4 });
+  if (o.kWeighting !== undefined) r.background!.kWeighting = parseNumber('--k-weight', o.kWeighting, { min: 0, max: 4 });
   if (o.kMax !== undefined) r.kMax = parseNumber('--k-max', o.kMax, { min: 2, exclusiveMin: true });
   if (o.clamps !== undefined) {
     const parts = o.clamps.split(':');
@@ -129,7 +129,7 @@ export function reductionPlot(chi: Chi, title: string): string {
   const kMax = chi.k[chi.k.length - 1];
   const weighted = chi.chi.map((c, i) => c * chi.k[i] ** kw);
   const window = { shape: 'hann' as const, min: Math.min(3, kMax / 2), max: Math.min(14, kMax - 0.5), taper: 1 };
-  const ft = forwardTransform(chi.k, chi.chi, { kWeight: kw, window });
+  const ft = forwardTransform(chi.k, chi.chi, { kWeighting: kw, window });
   const mag = magnitude(ft);
   const keep = ft.x.findIndex((x) => x > 8);
   return renderLinePanels(
@@ -172,9 +172,9 @@ function summary(file: string, chi: Chi, merge: MergeResult | null, scans: Scan[
   lines.push(`pre-edge: E0 ${r.preEdge.used[0].toFixed(1)} to ${r.preEdge.used[1].toFixed(1)} eV, order ${r.preEdge.order}, ${r.preEdge.points} points${r.preEdge.clipped ? ' (range clipped to the data)' : ''}`);
   lines.push(`post-edge: E0 +${r.postEdge.used[0].toFixed(1)} to +${r.postEdge.used[1].toFixed(1)} eV, order ${r.postEdge.order}, ${r.postEdge.points} points${r.postEdge.clipped ? ' (range clipped to the data)' : ''}`);
   const b = r.background;
-  lines.push(`background: cutoff ${b.cutoffR} Å, ${b.basisFunctions} cubic B-splines, knot spacing ${b.knotSpacing.toFixed(3)} Å⁻¹, k ${b.kRange[0]}-${b.kRange[1].toFixed(2)} Å⁻¹, k-weight ${b.kWeight}, clamps ${b.clampLow}/${b.clampHigh} over ${b.clampPoints} points`);
+  lines.push(`background: cutoff ${b.cutoffR} Å, ${b.basisFunctions} cubic B-splines, knot spacing ${b.knotSpacing.toFixed(3)} Å⁻¹, k ${b.kRange[0]}-${b.kRange[1].toFixed(2)} Å⁻¹, k-weight ${b.kWeighting}, clamps ${b.clampLow}/${b.clampHigh} over ${b.clampPoints} points`);
   lines.push(`chi(k): ${chi.k.length} points, k 0-${chi.k[chi.k.length - 1].toFixed(2)} Å⁻¹ in steps of 0.05`);
-  lines.push(`noise: ${chi.noise.k.toExponential(2)} per point in chi(k); |chi(R)| ${chi.noise.r.toExponential(2)} (R ${chi.noise.rRange[0]}-${chi.noise.rRange[1]} Å, k-weight ${chi.noise.kWeight})`);
+  lines.push(`noise: ${chi.noise.k.toExponential(2)} per point in chi(k); |chi(R)| ${chi.noise.r.toExponential(2)} (R ${chi.noise.rRange[0]}-${chi.noise.rRange[1]} Å, k-weight ${chi.noise.kWeighting})`);
   if (r.glitches.length) lines.push(`glitches removed: ${r.glitches.map((g: any) => `${g.energy} eV (line ${g.line}, ${g.reason})`).join(', ')}`);
   return lines.join('\n') + '\n';
 }

@@ -70,7 +70,7 @@ export function simulateDocument(sim: SimulatedSpectrum, set: PathSet, file: str
     k: sim.k,
     chi: sim.chi,
     r: sim.r.filter((x) => x <= 10),
-    chiR: sim.chiR.slice(0, sim.r.filter((x) => x <= 10).length),
+    chiRMagnitude: sim.chiRMagnitude.slice(0, sim.r.filter((x) => x <= 10).length),
     file,
     settings: sim.settings,
     provenance: sim.provenance,
@@ -80,10 +80,10 @@ export function simulateDocument(sim: SimulatedSpectrum, set: PathSet, file: str
 export function simulateCsv(sim: SimulatedSpectrum): string {
   const nr = sim.r.filter((x) => x <= 10).length;
   const rows = Math.max(sim.k.length, nr);
-  const lines = [`# shellrank simulate: provider ${sim.settings.provider}; chiR = |chi(R)| of k^${sim.settings.kWeight} chi(k), ${sim.settings.window.shape} window ${sim.settings.window.min}-${sim.settings.window.max} 1/Å`, 'k,chi,r,chiR'];
+  const lines = [`# shellrank simulate: provider ${sim.settings.provider}; chiRMagnitude = |chi(R)| of k^${sim.settings.kWeighting} chi(k), ${sim.settings.window.shape} window ${sim.settings.window.min}-${sim.settings.window.max} 1/Å`, 'k,chi,r,chiRMagnitude'];
   for (let i = 0; i < rows; i++) {
     const a = i < sim.k.length ? `${fmt(sim.k[i])},${fmt(sim.chi[i])}` : ',';
-    const b = i < nr ? `${fmt(sim.r[i])},${fmt(sim.chiR[i])}` : ',';
+    const b = i < nr ? `${fmt(sim.r[i])},${fmt(sim.chiRMagnitude[i])}` : ',';
     lines.push(`${a},${b}`);
   }
   return lines.join('\n') + '\n';
@@ -103,7 +103,7 @@ export function registerSimulate(program: Command, io: CliIo): void {
     .option('--debye-temp <kelvin>', 'use the correlated Debye model with this Debye temperature')
     .option('--einstein-temp <kelvin>', 'use the Einstein model with this Einstein temperature')
     .option('--temp <kelvin>', 'sample temperature for --debye-temp / --einstein-temp', '300')
-    .option('--amp <s02>', 'amplitude reduction factor S0^2', '1')
+    .option('--amp <value>', 'amplitude reduction factor S0^2', '1')
     .option('--e0 <ev>', 'E0 shift in eV', '0')
     .option('--rmax <angstrom>', 'include only shells up to this distance')
     .option('--kw <weight>', 'k-weight of the Fourier transform', '2')
@@ -129,7 +129,7 @@ export function registerSimulate(program: Command, io: CliIo): void {
         disorder: parseDisorder(raw, structure, set),
         amp: parseNumber('--amp', raw.amp, { min: 0 }),
         e0: parseNumber('--e0', raw.e0),
-        kWeight: parseNumber('--kw', raw.kw, { min: 0, max: 4 }),
+        kWeighting: parseNumber('--kw', raw.kw, { min: 0, max: 4 }),
         window: { shape: raw.window as WindowShape, min: wmin, max: wmax, taper: parseNumber('--taper', raw.taper, { min: 0 }) },
         rMax: raw.rmax === undefined ? undefined : parseNumber('--rmax', raw.rmax, { min: 0, exclusiveMin: true }),
       });

@@ -6,7 +6,7 @@
  *     "correlations": [{a, b, value}], "warnings": [...], "recipe": [...],
  *     "status": {code, converged, message, iterations, evaluations},
  *     "data": {file, sha256, reducedHere, e0, edgeStep, noise}, "structure": {file, sha256, absorber, sites},
- *     "curves": {kWeight, k, data, model, window, rRange, shells: [{label, chi}]} (unweighted chi(k) of the first
+ *     "curves": {kWeighting, k, data, model, window, rRange, shells: [{label, chi}]} (unweighted chi(k) of the first
  *     data set; "datasetCurves" holds one such record per data set), "settings": {...}, "provenance": {...} }
  * `n` of a shell is a plain number when fixed, {value, error} when varied or tied.
  */
@@ -60,7 +60,7 @@ function curvesOf(result: StructureFitResult, index: number) {
   const s = result.settings;
   return {
     name: c.name,
-    kWeight: s.kWeights[0],
+    kWeighting: s.kWeights[0],
     k: c.k,
     data: c.data,
     model: c.model,

@@ -88,7 +88,7 @@ export interface CompiledDataset {
   /** Window values on modelK. */
   windowK: Float64Array;
   /** Per k-weight: uniform noise of k^w chi W and, for q space, of the filtered signal. */
-  noise: { kWeight: number; epsK: number; epsR: number; epsQ: number }[];
+  noise: { kWeighting: number; epsK: number; epsR: number; epsQ: number }[];
   /** Indices of modelK inside [kMin, kMax]. */
   kInside: Int32Array;
   /** Indices of the R grid inside [rMin, rMax] (r space). */
@@ -177,7 +177,7 @@ export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets
       const epsR = spec.noiseChi * Math.sqrt(sw / (2 * (Math.PI / (2 * dk))));
       const epsQ = epsK * Math.sqrt(rWindowSquared / (Math.PI / (2 * dk)));
       if (!(epsK > 0) || !Number.isFinite(epsK)) throw new InputError(`data set ${spec.name}: the noise estimate ${spec.noiseChi} is not a positive number`);
-      return { kWeight: w, epsK, epsR, epsQ };
+      return { kWeighting: w, epsK, epsR, epsQ };
     });
     const perWeight = spec.space === 'r' ? 2 * rInside.length : kInside.length;
     const length = perWeight * spec.kWeights.length;
@@ -207,7 +207,7 @@ export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets
   const project = (d: CompiledDataset, column: Float64Array, out: Float64Array, stride: number, col: number, subtract?: Float64Array): void => {
     let row = d.offset;
     for (const noise of d.noise) {
-      const w = noise.kWeight;
+      const w = noise.kWeighting;
       if (d.spec.space === 'k') {
         for (const i of d.kInside) {
           const v = subtract ? column[i] - subtract[i] : column[i];
@@ -216,7 +216,7 @@ export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets
         continue;
       }
       const diff = subtract ? Float64Array.from(column, (v, i) => v - subtract[i]) : column;
-      const spectrum = forwardTransform(d.modelK, diff, { kWeight: w, window: d.kWindow });
+      const spectrum = forwardTransform(d.modelK, diff, { kWeighting: w, window: d.kWindow });
       if (d.spec.space === 'r') {
         const sigma = noise.epsR / Math.SQRT2;
         for (const j of d.rInside) out[row++ * stride + col] = spectrum.re[j] / sigma;

@@ -55,7 +55,7 @@ export function studyDocument(result: StudyFitResult, prepared: PreparedStudy) {
     const s = result.datasetSettings[i];
     return {
       name: c.name,
-      kWeight: s.kWeights[0],
+      kWeighting: s.kWeights[0],
       k: c.k,
       data: c.data,
       model: c.model,

@@ -24,7 +24,7 @@ export const SPECTRUM_FORMATS: readonly SpectrumFormat[] = [
   {
     name: 'columns',
     description: 'plain whitespace or comma-separated columns with a header line',
-    extensions: ['.dat', '.txt', '.csv', '.xmu', '.tsv'],
+    extensions: ['.dat', '.txt', '.csv', '.tsv'],
     sniff: () => true,
     read: parseColumns,
   },

@@ -47,7 +47,7 @@ const ROLE_PATTERNS: [ColumnRole, RegExp][] = [
   ['transmitted', /^(it|i1|itrans|itransmitted|trans|transmission|itr)$/],
   ['fluorescence', /^(if|ifl|ifluor|ifluo|fluor|fluo|fluorescence|iff)$/],
   ['reference', /^(iref|irefer|ireference|i2|ir)$/],
-  ['mu', /^(mu|xmu|mutrans|mufluor|mut|muf|absorption|mue)$/],
+  ['mu', /^(mu|mutrans|mufluor|mut|muf|absorption|mue)$/],
   ['muReference', /^(murefer|muref|mureference|mur)$/],
 ];
 
