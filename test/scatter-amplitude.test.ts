@@ -15,32 +15,12 @@ import { effectiveAmplitude, planeWaveBackscattering, translationCoefficients } 
 import { gaunt, sphericalHarmonic } from '../src/scatter/angular';
 import { phaseShifts, spherePotentialFrom } from '../src/scatter/phase-shifts';
 import { sphericalBesselJ, sphericalHankel } from '../src/scatter/spherical-bessel';
+import { gaussLegendre as gaussLegendreRule } from '../src/numeric/quadrature';
 
-/** Gauss-Legendre nodes and weights on [-1, 1] (Newton on P_n; Abramowitz and Stegun 25.4.29). */
+/** Gauss-Legendre nodes and weights on [-1, 1] (src/numeric/quadrature.ts, checked in test/numeric-fourier.test.ts). */
 function gaussLegendre(n: number): { x: Float64Array; w: Float64Array } {
-  const x = new Float64Array(n);
-  const w = new Float64Array(n);
-  for (let i = 0; i < n; i++) {
-    let z = Math.cos((Math.PI * (i + 0.75)) / (n + 0.5));
-    for (let it = 0; it < 100; it++) {
-      let p0 = 1;
-      let p1 = z;
-      for (let l = 2; l <= n; l++) {
-        const p2 = ((2 * l - 1) * z * p1 - (l - 1) * p0) / l;
-        p0 = p1;
-        p1 = p2;
-      }
-      const dp = (n * (z * p1 - p0)) / (z * z - 1);
-      const dz = p1 / dp;
-      z -= dz;
-      if (Math.abs(dz) < 1e-15) {
-        x[i] = z;
-        w[i] = 2 / ((1 - z * z) * dp * dp);
-        break;
-      }
-    }
-  }
-  return { x, w };
+  const { nodes, weights } = gaussLegendreRule(n);
+  return { x: nodes, w: weights };
 }
 
 describe('addition theorem for outgoing spherical waves (Danos and Maximon 1965)', () => {

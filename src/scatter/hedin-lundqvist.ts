@@ -42,36 +42,16 @@
  * plasmon threshold, is a node), and interpolated bilinearly. Outside r_s the end rows are used;
  * beyond v = 18, Re Sigma_c falls as 1/t and Im Sigma_c as 1/sqrt(t) from the last column.
  */
+import { gaussLegendre } from '../numeric/quadrature';
 /** Fermi momentum k_F = (3 pi^2 rho)^(1/3), 1/bohr. */
 function fermiMomentum(rho: number): number {
   return Math.cbrt(3 * Math.PI * Math.PI * Math.max(rho, 0));
 }
 
-/** Gauss-Legendre nodes and weights on [0, 1]. */
+/** Gauss-Legendre nodes and weights on [0, 1], from the [-1, 1] rule of src/numeric/quadrature.ts. */
 function gaussLegendreUnit(n: number): { x: Float64Array; w: Float64Array } {
-  const x = new Float64Array(n);
-  const w = new Float64Array(n);
-  for (let i = 0; i < n; i++) {
-    let z = Math.cos((Math.PI * (i + 0.75)) / (n + 0.5));
-    for (let it = 0; it < 100; it++) {
-      let p0 = 1;
-      let p1 = z;
-      for (let l = 2; l <= n; l++) {
-        const p2 = ((2 * l - 1) * z * p1 - (l - 1) * p0) / l;
-        p0 = p1;
-        p1 = p2;
-      }
-      const dp = (n * (z * p1 - p0)) / (z * z - 1);
-      const dz = p1 / dp;
-      z -= dz;
-      if (Math.abs(dz) < 1e-15) {
-        x[i] = 0.5 * (1 - z);
-        w[i] = 1 / ((1 - z * z) * dp * dp);
-        break;
-      }
-    }
-  }
-  return { x, w };
+  const { nodes, weights } = gaussLegendre(n);
+  return { x: Float64Array.from(nodes, (z) => 0.5 * (1 + z)), w: Float64Array.from(weights, (w) => 0.5 * w) };
 }
 
 const NODES = gaussLegendreUnit(16);
