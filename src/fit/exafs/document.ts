@@ -12,6 +12,7 @@
  */
 import type { LoadedChi } from './data';
 import type { StructureFitResult } from './fit-structure';
+import type { ExafsFitResult } from './refine';
 
 export interface FitDocumentContext {
   data: LoadedChi;
@@ -55,9 +56,20 @@ export function fitDocument(result: StructureFitResult, context: FitDocumentCont
 
 export type FitDocument = ReturnType<typeof fitDocument>;
 
-function curvesOf(result: StructureFitResult, index: number) {
+/** The window settings of one data set that its curves record. */
+export interface CurveSettings {
+  kWeights: readonly number[];
+  kRange: readonly [number, number] | number[];
+  rRange: readonly [number, number] | number[];
+  kWindow: { shape: string; taper: number };
+}
+
+/**
+ * The curves of data set `index` in the shape the report reads (src/report/types.ts), with that
+ * data set's own settings (default: the fit's settings).
+ */
+export function curvesOf(result: ExafsFitResult, index: number, s: CurveSettings = (result as StructureFitResult).settings) {
   const c = result.curves[index];
-  const s = result.settings;
   return {
     name: c.name,
     kWeighting: s.kWeights[0],

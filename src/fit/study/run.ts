@@ -10,7 +10,7 @@
  * A study with one data set and no rules gives the same numbers as `shellrank fit` with the same
  * settings (the default recipe is reproduced exactly, parameter order included).
  */
-import { fitDocument } from '../exafs/document';
+import { curvesOf, fitDocument } from '../exafs/document';
 import type { StructureFitResult, StructureFitSettings } from '../exafs/fit-structure';
 import { DEFAULT_FIT_SETTINGS } from '../exafs/fit-structure';
 import { refine, type ExafsFitResult } from '../exafs/refine';
@@ -51,19 +51,7 @@ export function runStudy(prepared: PreparedStudy): StudyFitResult {
 export function studyDocument(result: StudyFitResult, prepared: PreparedStudy) {
   const first = prepared.datasets[0];
   const base = fitDocument(result, { data: first.data, structure: first.structure });
-  const datasetCurves = result.curves.map((c, i) => {
-    const s = result.datasetSettings[i];
-    return {
-      name: c.name,
-      kWeighting: s.kWeights[0],
-      k: c.k,
-      data: c.data,
-      model: c.model,
-      window: { shape: s.kWindow.shape, min: s.kRange[0], max: s.kRange[1], taper: s.kWindow.taper },
-      rRange: s.rRange,
-      shells: result.shells.filter((sh) => sh.dataset === c.name).map((sh, j) => ({ label: sh.id, chi: c.perPath[j] })),
-    };
-  });
+  const datasetCurves = result.curves.map((_, i) => curvesOf(result, i, result.datasetSettings[i]));
   return {
     ...base,
     // the data set of each shell (a study may refine the same shell id in several data sets)
