@@ -6,7 +6,7 @@
  * (hartree atomic units). This is the local-density use of the electron-gas self-energy of Hedin and
  * Lundqvist (J. Phys. C 4, 2064 (1971)).
  *
- * Real part, model 'hedin-lundqvist' (the default): the GW self-energy of the electron gas with
+ * Real part, model 'hedin-lundqvist': the GW self-energy of the electron gas with
  * Lundqvist's single-plasmon-pole screening, exchange plus correlation, evaluated on shell
  * (./hedin-lundqvist derives and computes it). At the Fermi level it is close to the LDA
  * exchange-correlation potential; it tends to zero at high energy.
@@ -18,6 +18,34 @@
  * as -2 k_F^3 / (3 pi p^2) at high energy. It is the exchange part of the Hedin-Lundqvist
  * self-energy, without correlation. Model 'ground-state-lda' uses the energy-independent LDA
  * exchange-correlation potential instead (for comparison).
+ *
+ * Real part, model 'valence-hedin-lundqvist' (the default of ./first-principles): the electron-gas
+ * picture treats every electron as a member of one gas that screens by plasmons, which is sound
+ * for the valence electrons but not for
+ * tightly bound core shells, whose binding energies (tens of eV to keV) lie far above the
+ * plasmon energies that dominate the plasmon-pole correlation at the local density. Splitting the
+ * density into core and valence parts, rho = rho_c + rho_v, we keep the dynamically screened
+ * (GW, plasmon-pole) self-energy for the valence gas and give the core electrons only their bare
+ * exchange with the photoelectron, unscreened and without correlation (they are too tightly bound
+ * to be polarised at these energies):
+ *   Sigma(r, E) = Sigma_HL(rho_v(r); E - E_F) + Sigma_x^core(r, E),
+ *   Sigma_x^core = -(k_c / pi) [ 1 + (1 - y^2) / (2y) ln |(1 + y) / (1 - y)| ],
+ *   k_c = (3 pi^2 rho_c)^(1/3),  y = p / k_c,  p^2 = k^2 + k_F(rho)^2,
+ * i.e. the Dirac-Hara (local Hartree-Fock) exchange of the core density, evaluated at the
+ * photoelectron's local momentum p in the full density (the same local momentum the other models
+ * use; p >= k_c always, so the core Fermi sphere is never entered). Our derivation of the form: the
+ * Fock exchange term is linear in the occupied orbitals, so the core shells' share of it separates
+ * exactly; it is then taken in the local (plane-wave, Slater) approximation, which is what the
+ * Dirac-Hara formula is. The losses (imaginary part) come from the valence gas alone: core
+ * excitations are not plasmons. This core/valence partition of the EXAFS self-energy, with
+ * Hartree-Fock-like exchange for the core and the plasmon-pole self-energy for the valence, is
+ * the one discussed in the literature on EXAFS theory (from memory: Rehr and Albers, Rev. Mod.
+ * Phys. 72, 621 (2000), section on self-energy; Mustre de Leon, Rehr, Zabinsky and Albers, Phys.
+ * Rev. B 44, 4146 (1991)). Limits: with rho_c = 0 it is exactly 'hedin-lundqvist'; at high energy
+ * Sigma_HL(rho_v) -> 0 and Sigma_x^core -> -2 k_c^3 / (3 pi p^2) = -2 pi rho_c / p^2 -> 0; at
+ * the Fermi level it is the valence HL plus the core's Slater exchange at y = k_F / k_c. Which
+ * electrons are core is the caller's choice (./first-principles: the closed shells of the
+ * preceding noble gas). Without a core density (none given) the model is 'hedin-lundqvist'.
  *
  * Imaginary part (losses), model 'plasmon-pole': the on-shell plasmon-emission rate of the same
  * single-plasmon-pole model (the imaginary part of the Hedin-Lundqvist self-energy), dispersion
@@ -33,11 +61,12 @@
  * ./hedin-lundqvist (same integral, interpolated).
  */
 import { hedinLundqvistInterpolated, hedinLundqvistOnGrid, prepareGas, type PreparedGas } from './hedin-lundqvist';
+import { InputError } from '../core/errors';
 import { ldaExchangeCorrelationPotential } from './lda';
 
 /** Which real part: Hedin-Lundqvist, Dirac-Hara (both energy dependent) or the ground-state LDA potential. */
-export type ExchangeModel = 'hedin-lundqvist' | 'dirac-hara' | 'ground-state-lda';
-export const EXCHANGE_MODELS: readonly ExchangeModel[] = ['hedin-lundqvist', 'dirac-hara', 'ground-state-lda'];
+export type ExchangeModel = 'hedin-lundqvist' | 'valence-hedin-lundqvist' | 'dirac-hara' | 'ground-state-lda';
+export const EXCHANGE_MODELS: readonly ExchangeModel[] = ['hedin-lundqvist', 'valence-hedin-lundqvist', 'dirac-hara', 'ground-state-lda'];
 /** Which loss model for the imaginary part. */
 export type LossModel = 'plasmon-pole' | 'none';
 export const LOSS_MODELS: readonly LossModel[] = ['plasmon-pole', 'none'];
@@ -152,12 +181,31 @@ export function plasmonPoleImaginary(rho: number, p: number): number {
 }
 
 /**
+ * Core/valence self-energy of model 'valence-hedin-lundqvist' (see the header), [Re, Im] hartree:
+ * Hedin-Lundqvist of the valence density rho - coreRho plus the Dirac-Hara exchange of coreRho at
+ * the local momentum sqrt(k^2 + k_F(rho)^2). coreRho is clamped to [0, rho]; coreRho = 0 gives
+ * exactly the Hedin-Lundqvist self-energy of rho.
+ */
+export function coreValenceSelfEnergy(rho: number, coreRho: number, k: number, losses: LossModel = 'plasmon-pole', out: [number, number] = [0, 0]): [number, number] {
+  const core = Math.min(Math.max(coreRho, 0), Math.max(rho, 0));
+  hedinLundqvistInterpolated(rho - core, 0.5 * k * k, out);
+  if (losses === 'none') out[1] = 0;
+  if (core > 0) {
+    const kf = fermiMomentum(rho);
+    out[0] += diracHaraExchange(core, Math.sqrt(k * k + kf * kf));
+  }
+  return out;
+}
+
+/**
  * Photoelectron self-energy [Re, Im] (hartree) at density rho (1/bohr^3) for a photoelectron whose
  * energy above the Fermi level is k^2 / 2 (k in 1/bohr; local momentum p = sqrt(k^2 + k_F^2)).
- * Re replaces the ground-state exchange-correlation potential; Im <= 0.
+ * Re replaces the ground-state exchange-correlation potential; Im <= 0. `coreRho` (the core part
+ * of rho, default 0) is used by model 'valence-hedin-lundqvist' only.
  */
-export function selfEnergy(rho: number, k: number, options: SelfEnergyOptions = DEFAULT_SELF_ENERGY, out: [number, number] = [0, 0]): [number, number] {
+export function selfEnergy(rho: number, k: number, options: SelfEnergyOptions = DEFAULT_SELF_ENERGY, out: [number, number] = [0, 0], coreRho = 0): [number, number] {
   const excess = 0.5 * k * k;
+  if (options.exchange === 'valence-hedin-lundqvist') return coreValenceSelfEnergy(rho, coreRho, k, options.losses, out);
   if (options.exchange === 'hedin-lundqvist') {
     hedinLundqvistInterpolated(rho, excess, out);
     if (options.losses === 'none') out[1] = 0;
@@ -175,6 +223,10 @@ export function selfEnergy(rho: number, k: number, options: SelfEnergyOptions = 
 /** A fixed density profile prepared for fast self-energies at many energies. */
 export interface SelfEnergyGrid {
   density: Float64Array;
+  /** Core part of the density per point (clamped to [0, density]); null = no core. */
+  coreDensity: Float64Array | null;
+  /** The valence density (density - core) prepared for the table; null = no core. */
+  valenceGas: PreparedGas | null;
   /** k_F per point, 1/bohr. */
   fermiMomentum: Float64Array;
   /** Ground-state LDA v_xc per point, hartree. */
@@ -182,8 +234,11 @@ export interface SelfEnergyGrid {
   gas: PreparedGas;
 }
 
-/** Prepare a density profile (electrons/bohr^3) for {@link selfEnergyOnGrid}. */
-export function prepareSelfEnergyGrid(density: Float64Array): SelfEnergyGrid {
+/**
+ * Prepare a density profile (electrons/bohr^3) for {@link selfEnergyOnGrid}, with its core part
+ * (same length; for 'valence-hedin-lundqvist') when given.
+ */
+export function prepareSelfEnergyGrid(density: Float64Array, coreDensity?: Float64Array | null): SelfEnergyGrid {
   const n = density.length;
   const kf = new Float64Array(n);
   const lda = new Float64Array(n);
@@ -191,7 +246,19 @@ export function prepareSelfEnergyGrid(density: Float64Array): SelfEnergyGrid {
     kf[i] = fermiMomentum(density[i]);
     lda[i] = ldaExchangeCorrelationPotential(density[i]);
   }
-  return { density, fermiMomentum: kf, lda, gas: prepareGas(density) };
+  let core: Float64Array | null = null;
+  let valenceGas: PreparedGas | null = null;
+  if (coreDensity) {
+    if (coreDensity.length !== n) throw new InputError(`core density needs ${n} points like the density (got ${coreDensity.length})`, { key: 'coreDensity' });
+    core = new Float64Array(n);
+    const valence = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      core[i] = Math.min(Math.max(coreDensity[i], 0), Math.max(density[i], 0));
+      valence[i] = density[i] - core[i];
+    }
+    valenceGas = prepareGas(valence);
+  }
+  return { density, coreDensity: core, valenceGas, fermiMomentum: kf, lda, gas: prepareGas(density) };
 }
 
 /**
@@ -202,6 +269,20 @@ export function selfEnergyOnGrid(grid: SelfEnergyGrid, k: number, options: SelfE
   const n = grid.density.length;
   const excess = 0.5 * k * k;
   const wantLosses = options.losses === 'plasmon-pole';
+  if (options.exchange === 'valence-hedin-lundqvist') {
+    hedinLundqvistOnGrid(grid.valenceGas ?? grid.gas, excess, re, im);
+    if (!wantLosses) im.fill(0, 0, n);
+    const core = grid.coreDensity;
+    if (core) {
+      for (let i = 0; i < n; i++) {
+        if (core[i] > 0) {
+          const kf = grid.fermiMomentum[i];
+          re[i] += diracHaraExchange(core[i], Math.sqrt(k * k + kf * kf));
+        }
+      }
+    }
+    return;
+  }
   if (options.exchange === 'hedin-lundqvist' || wantLosses) hedinLundqvistOnGrid(grid.gas, excess, re, im);
   if (!wantLosses) im.fill(0, 0, n);
   if (options.exchange === 'dirac-hara') {

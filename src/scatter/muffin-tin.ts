@@ -12,6 +12,9 @@
  * (spherical averaging commutes with the Laplacian, so averaging each neighbour's potential is the
  * same as solving Poisson's equation for the averaged total density).
  * The ground-state exchange-correlation potential is the LDA of the overlapped density.
+ * The core part of the density (the atoms' core shells, when an atom gives it) is overlapped the
+ * same way, for the photoelectron self-energy that treats core and valence electrons apart
+ * (./exchange).
  *
  * Sphere radii: Norman radii (Norman, Mol. Phys. 31, 1191 (1976)), the radius at which the
  * overlapped density of a site holds the site's nuclear charge Z, scaled pairwise so that a site and
@@ -37,6 +40,8 @@ export interface AtomicDensity {
   r: Float64Array;
   /** Spherical electron density, electrons/bohr^3. */
   density: Float64Array;
+  /** The part of `density` in core shells (same grid), electrons/bohr^3; absent = no core. */
+  coreDensity?: Float64Array;
 }
 
 /** Running integrals of one atom, ready for spherical averages about displaced centres. */
@@ -55,6 +60,9 @@ export interface AtomIntegrals {
   rho: Float64Array;
   /** Total electron count ∫ 4 pi r^2 rho dr. */
   electrons: number;
+  /** Core density at the grid points and its running integral ∫_0^t rho_core s ds; null = no core. */
+  coreRho: Float64Array | null;
+  coreF: Float64Array | null;
 }
 
 /** Cumulative ∫_{x_0}^{x_i} y dx on a uniform grid of step h, fourth order (y_0 at the start). */
@@ -93,7 +101,16 @@ export function atomIntegrals(atom: AtomicDensity): AtomIntegrals {
   const yg = new Float64Array(n);
   for (let i = 0; i < n; i++) yg[i] = rv[i] * r[i];
   const g = cumulative(yg, h, rv[0] * r[0]);
-  return { z: atom.z, r0: r[0], h, n, f, g, rv, rho: density, electrons: q[n - 1] };
+  let coreRho: Float64Array | null = null;
+  let coreF: Float64Array | null = null;
+  if (atom.coreDensity) {
+    if (atom.coreDensity.length !== n) throw new InputError(`core density needs ${n} points like the density (got ${atom.coreDensity.length})`);
+    coreRho = atom.coreDensity;
+    const yc = new Float64Array(n);
+    for (let i = 0; i < n; i++) yc[i] = r[i] * r[i] * coreRho[i];
+    coreF = cumulative(yc, h, (coreRho[0] * r[0] * r[0]) / 2);
+  }
+  return { z: atom.z, r0: r[0], h, n, f, g, rv, rho: density, electrons: q[n - 1], coreRho, coreF };
 }
 
 /** Four-point Lagrange interpolation of a grid column at radius t (log grid), clamped at the ends. */
@@ -112,11 +129,15 @@ function interpolateLog(a: AtomIntegrals, column: Float64Array, t: number): numb
   );
 }
 
-function runningF(a: AtomIntegrals, t: number): number {
-  if (t <= a.r0) return (a.rho[0] * t * t) / 2;
+function runningIntegral(a: AtomIntegrals, rho: Float64Array, f: Float64Array, t: number): number {
+  if (t <= a.r0) return (rho[0] * t * t) / 2;
   const rMax = a.r0 * Math.exp((a.n - 1) * a.h);
-  if (t >= rMax) return a.f[a.n - 1];
-  return interpolateLog(a, a.f, t);
+  if (t >= rMax) return f[a.n - 1];
+  return interpolateLog(a, f, t);
+}
+
+function runningF(a: AtomIntegrals, t: number): number {
+  return runningIntegral(a, a.rho, a.f, t);
 }
 
 function runningG(a: AtomIntegrals, t: number): number {
@@ -132,6 +153,22 @@ export function atomDensityAt(a: AtomIntegrals, t: number): number {
   if (t >= rMax) return 0;
   if (t <= a.r0) return a.rho[0];
   return Math.max(0, interpolateLog(a, a.rho, t));
+}
+
+/** The atom's own core density at r (interpolated; 0 beyond the grid or without a core). */
+export function atomCoreDensityAt(a: AtomIntegrals, t: number): number {
+  if (!a.coreRho) return 0;
+  const rMax = a.r0 * Math.exp((a.n - 1) * a.h);
+  if (t >= rMax) return 0;
+  if (t <= a.r0) return a.coreRho[0];
+  return Math.max(0, interpolateLog(a, a.coreRho, t));
+}
+
+/** Mattheiss average of the core density (as {@link averagedDensity}); 0 without a core. */
+export function averagedCoreDensity(a: AtomIntegrals, r: number, d: number): number {
+  if (!a.coreRho || !a.coreF) return 0;
+  if (r < 1e-6 * d) return atomCoreDensityAt(a, d);
+  return Math.max(0, (runningIntegral(a, a.coreRho, a.coreF, d + r) - runningIntegral(a, a.coreRho, a.coreF, Math.abs(d - r))) / (2 * r * d));
 }
 
 /** The atom's own electrostatic potential times r, at r (-> -Z at 0, 0 beyond the grid). */
@@ -186,6 +223,13 @@ export function siteDensityAndCoulomb(site: SiteSpec, r: number): { density: num
   return { density, coulomb };
 }
 
+/** Overlapped core density of a site at radius r (bohr), electrons/bohr^3 (0 for atoms without a core). */
+export function siteCoreDensity(site: SiteSpec, r: number): number {
+  let core = atomCoreDensityAt(site.atom, r);
+  for (const nb of site.neighbours) core += nb.count * averagedCoreDensity(nb.atom, r, nb.distance);
+  return core;
+}
+
 /**
  * Norman radius of a site: the radius at which ∫_0^r 4 pi s^2 rho_overlapped ds = Z.
  * ComputationError when the charge Z is not reached inside the nearest-neighbour distance.
@@ -218,8 +262,9 @@ export interface MuffinTinSite {
   normanRadius: number;
   /** Muffin-tin sphere radius, bohr. */
   radius: number;
-  /** Density and Coulomb potential at the sphere surface. */
+  /** Density, core density and Coulomb potential at the sphere surface. */
   surfaceDensity: number;
+  surfaceCoreDensity: number;
   surfaceCoulomb: number;
   /** Interstitial weight r^2 x abundance (normalised over the cluster). */
   interstitialWeight: number;
@@ -269,6 +314,7 @@ export function buildMuffinTins(specs: SiteSpec[], options: MuffinTinOptions = {
       normanRadius: norman[i],
       radius: radii[i],
       surfaceDensity: surf.density,
+      surfaceCoreDensity: Math.min(siteCoreDensity(s, radii[i]), surf.density),
       surfaceCoulomb: surf.coulomb,
       interstitialWeight: raw[i] / total,
     };

@@ -1,7 +1,7 @@
 /**
  * The `firstPrinciples` ScatteringProvider: scattering functions computed from self-consistent LDA
- * atoms, muffin-tin cluster potentials, the Hedin-Lundqvist plasmon-pole self-energy, complex
- * phase shifts and exact curved-wave single-scattering amplitudes (./first-principles explains the
+ * atoms, muffin-tin cluster potentials, a core/valence self-energy (Hedin-Lundqvist plasmon-pole for
+ * the valence density, Dirac-Hara exchange for the core), complex phase shifts and exact curved-wave single-scattering amplitudes (./first-principles explains the
  * chain and its approximations).
  *
  * Caching:
@@ -110,7 +110,7 @@ export function firstPrinciplesProvider(options: FirstPrinciplesProviderOptions 
   };
   return {
     name: FIRST_PRINCIPLES_PROVIDER_NAME,
-    describe: 'first-principles: LDA atoms, muffin-tin potentials, Hedin-Lundqvist plasmon-pole self-energy, curved-wave amplitudes',
+    describe: 'first-principles: LDA atoms, muffin-tin potentials, valence plasmon-pole self-energy with core exchange, curved-wave amplitudes',
     compute(request: ScatteringRequest): ScatteringTable {
       const key = firstPrinciplesKey(request, settings);
       const info = {

@@ -2,7 +2,8 @@
  * The photoelectron's complex, energy-dependent potential inside each muffin-tin sphere and in the
  * interstitial, assembled from a muffin-tin cluster (muffin-tin.ts) and a self-energy model
  * (exchange.ts):
- *   V_s(r, k) = V_coulomb,s(r) + Sigma(rho_s(r), k),
+ *   V_s(r, k) = V_coulomb,s(r) + Sigma(rho_s(r), k)   (or Sigma(rho_s, rho_core,s, k) for the
+ *               core/valence model of exchange.ts, with the overlapped core density),
  *   V_0(k)    = sum_s w_s V_s(r_s, k)      (surface average, weights w_s = area x abundance),
  *   U_s(r, k) = V_s(r, k) - V_0(k)         (what the phase-shift integration sees),
  * where k^2 / 2 is the photoelectron's energy above the Fermi level, the argument of the local
@@ -11,7 +12,7 @@
  * Units: bohr, hartree.
  */
 import { prepareSelfEnergyGrid, selfEnergy, selfEnergyOnGrid, type SelfEnergyGrid, type SelfEnergyOptions } from './exchange';
-import { siteDensityAndCoulomb, type MuffinTinSite } from './muffin-tin';
+import { siteCoreDensity, siteDensityAndCoulomb, type MuffinTinSite } from './muffin-tin';
 import { sphereGrid, type SpherePotential } from './phase-shifts';
 
 /** A site's overlapped density and Coulomb potential sampled on its sphere grid. */
@@ -21,8 +22,11 @@ export interface SiteRadial {
   h: number;
   r: Float64Array;
   density: Float64Array;
+  /** Overlapped core density (0 where the atoms give none), electrons/bohr^3. */
+  coreDensity: Float64Array;
   coulomb: Float64Array;
   surfaceDensity: number;
+  surfaceCoreDensity: number;
   surfaceCoulomb: number;
   weight: number;
   /** The density prepared for fast self-energies. */
@@ -33,10 +37,13 @@ export function siteRadial(site: MuffinTinSite, h = 0.01, rMin = 1e-5): SiteRadi
   const r = sphereGrid(site.radius, h, rMin);
   const density = new Float64Array(r.length);
   const coulomb = new Float64Array(r.length);
+  const coreDensity = new Float64Array(r.length);
+  const hasCore = site.spec.atom.coreRho !== null || site.spec.neighbours.some((nb) => nb.atom.coreRho !== null);
   for (let i = 0; i < r.length; i++) {
     const v = siteDensityAndCoulomb(site.spec, r[i]);
     density[i] = v.density;
     coulomb[i] = v.coulomb;
+    if (hasCore) coreDensity[i] = siteCoreDensity(site.spec, r[i]);
   }
   return {
     species: site.species,
@@ -44,11 +51,13 @@ export function siteRadial(site: MuffinTinSite, h = 0.01, rMin = 1e-5): SiteRadi
     h,
     r,
     density,
+    coreDensity,
     coulomb,
     surfaceDensity: site.surfaceDensity,
+    surfaceCoreDensity: site.surfaceCoreDensity,
     surfaceCoulomb: site.surfaceCoulomb,
     weight: site.interstitialWeight,
-    selfEnergyGrid: prepareSelfEnergyGrid(density),
+    selfEnergyGrid: prepareSelfEnergyGrid(density, hasCore ? coreDensity : null),
   };
 }
 
@@ -58,7 +67,7 @@ export function interstitialLevel(sites: readonly SiteRadial[], k: number, optio
   let im = 0;
   const sigma: [number, number] = [0, 0];
   for (const s of sites) {
-    selfEnergy(s.surfaceDensity, k, options, sigma);
+    selfEnergy(s.surfaceDensity, k, options, sigma, s.surfaceCoreDensity);
     re += s.weight * (s.surfaceCoulomb + sigma[0]);
     im += s.weight * sigma[1];
   }

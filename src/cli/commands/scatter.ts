@@ -9,6 +9,7 @@ import { elementBySymbol, parseEdge } from '../../elements/index';
 import { renderLinePanels } from '../../report/svg-lines';
 import { InputError } from '../../core/errors';
 import { EXCHANGE_MODELS, type ExchangeModel } from '../../scatter/exchange';
+import { DEFAULT_FIRST_PRINCIPLES_SETTINGS } from '../../scatter/first-principles';
 import { firstPrinciplesProvider } from '../../scatter/provider-first-principles';
 import type { CliIo } from '../io';
 import { emit, textTable, toJson } from '../output';
@@ -38,7 +39,7 @@ export function registerScatter(program: Command, io: CliIo): void {
     .option('--k-max <invA>', 'largest k of the grid, 1/Å', '20')
     .option('--k-step <invA>', 'k grid step, 1/Å', '0.25')
     .option('--overlap <fraction>', 'muffin-tin sphere overlap', '0.1')
-    .option('--exchange <model>', `real part of the photoelectron self-energy (${EXCHANGE_MODELS.join(', ')})`, 'hedin-lundqvist')
+    .option('--exchange <model>', `photoelectron self-energy model (${EXCHANGE_MODELS.join(', ')})`, DEFAULT_FIRST_PRINCIPLES_SETTINGS.exchange)
     .option('--json', 'write JSON {"k", "amplitude", "phase", "meanFreePath", ...}')
     .option('--plot <file.svg>', 'also write an SVG plot of the three functions')
     .option('--no-cache', 'neither read nor write the scattering cache')

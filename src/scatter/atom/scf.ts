@@ -95,6 +95,11 @@ export interface AtomResult {
   exchangeCorrelation: Float64Array;
   /** Orbitals in the order of `options.configuration`. */
   orbitals: AtomOrbital[];
+  /**
+   * Each orbital's share of `density` (occupation times its normalised |u|^2 / (4 pi r^2)),
+   * electrons/bohr^3, in the order of `orbitals`; they sum to `density`.
+   */
+  orbitalDensities: Float64Array[];
   /** Kohn-Sham total energy in hartree. */
   totalEnergy: number;
   /** SCF iterations used. */
@@ -256,13 +261,16 @@ export function solveAtom(options: AtomOptions): AtomResult {
     lastGood = electronic.slice();
     previousStates = states;
     const density = new Float64Array(n);
+    const orbitalDensities = states.map(() => new Float64Array(n));
     states.forEach((s, k) => {
       const f = configuration[k].occupation;
       if (f === 0) return;
       const { p, smallComponent: q } = s;
+      const own = orbitalDensities[k];
       for (let i = 0; i < n; i++) {
         const w = q ? p[i] * p[i] + q[i] * q[i] : p[i] * p[i];
-        density[i] += (f * w) / (fourPi * r[i] * r[i]);
+        own[i] = (f * w) / (fourPi * r[i] * r[i]);
+        density[i] += own[i];
       }
     });
     const hartree = hartreePotential(grid, density);
@@ -292,6 +300,7 @@ export function solveAtom(options: AtomOptions): AtomResult {
         hartree,
         exchangeCorrelation: xc.potential,
         orbitals: configuration.map((o, k) => ({ n: o.n, l: o.l, occupation: o.occupation, energy: states[k].energy })),
+        orbitalDensities,
         totalEnergy,
         iterations: iteration,
         converged: true,
