@@ -22,6 +22,8 @@ import { candidateKey, componentsOf, FrameCache, type Candidate, type CandidateS
 import { prescreen } from './prescreen';
 import { rankingRecipe, type RankingRecipeOptions } from './recipe';
 import { TableSource, type Environment, type TablePolicy } from './tables';
+import { clustersOfCandidate, multipleScatteringForComponent, type MultipleScatteringSettings } from './multiple';
+import type { ScatteringProvider, ScatteringTable } from '../scatter/provider';
 import { distanceResolution, resolvedShells, type ResolvedShell } from './verdicts';
 import { compileWindow, type DataWindow, type WindowSettings } from './window';
 
@@ -48,6 +50,8 @@ export interface CandidateSettings {
   tables: TablePolicy;
   /** Starts of each refinement (1 = from the recipe's start values only). */
   starts: number;
+  /** Opt-in multiple-scattering paths in the refinement (./multiple); absent = single scattering only. */
+  multipleScattering?: MultipleScatteringSettings;
 }
 
 /** Everything a worker needs, as plain data (structured-clone safe). */
@@ -93,6 +97,8 @@ export interface EvaluationContext {
   window: DataWindow;
   tables: TableSource;
   frames: FrameCache;
+  /** The provider behind `tables` (for multiple-scattering tables). */
+  provider: ScatteringProvider;
 }
 
 /** Build the per-thread state for a job. */
@@ -102,7 +108,7 @@ export function makeContext(job: RankJob): EvaluationContext {
   const provider = defaultProviders({ cache: job.cache, cacheDir: job.cacheDir }).get(s.provider);
   const kMax = s.window.kRange[1] + s.window.kWindow.taper;
   const tables = new TableSource(provider, s.tables, job.referenceEnvironment, kMax);
-  return { job, window, tables, frames: new FrameCache((p) => resolvePath(job.cwd, p)) };
+  return { job, window, tables, frames: new FrameCache((p) => resolvePath(job.cwd, p)), provider };
 }
 
 function firstSource(spec: CandidateSpec): { file: string; frame?: number } {
@@ -178,15 +184,43 @@ function curvesByShellOrGroup(ids: readonly string[], groups: readonly string[],
   return [...sums].map(([label, chi]) => ({ label, chi: Array.from(chi, (x) => round(x, 8)) }));
 }
 
-function evaluateRefine(ctx: EvaluationContext, components: ComponentShells[]): { stats: FitStats; fit: FitSummary; ok: boolean } {
+/** The multiple-scattering paths and tables of each component (empty lists when not asked for). */
+function multipleOf(ctx: EvaluationContext, spec: CandidateSpec, components: ComponentShells[]): { paths: ScatteringPath[]; tables: ScatteringTable[]; found: number }[] {
+  const s = ctx.job.settings;
+  const ms = s.multipleScattering;
+  if (!ms) return components.map(() => ({ paths: [], tables: [], found: 0 }));
+  const clusters = clustersOfCandidate(spec, { absorber: s.absorber, edge: s.edge, radius: s.radius, tolerance: s.tolerance }, ctx.frames);
+  const maxHalfLength = s.window.rRange[1] + (s.recipe.pathMargin ?? 0.5);
+  const shared = s.tables.mode === 'shared' && ctx.job.referenceEnvironment !== null;
+  return components.map((c, ci) => {
+    const paths = pathsInRange(ctx, c);
+    const lookup = ctx.tables.forCandidate(c.pathSet.absorber, c.pathSet.edge, c.pathSet.environment);
+    return multipleScatteringForComponent(ctx.provider, clusters[ci], { paths, tables: paths.map((p) => lookup(p.scatterer, p.r)) }, {
+      absorber: c.pathSet.absorber, edge: c.pathSet.edge,
+      environment: shared ? ctx.job.referenceEnvironment as Environment : c.pathSet.environment,
+      maxHalfLength, kRange: s.window.kRange, kMax: s.window.kRange[1] + s.window.kWindow.taper,
+    }, ms);
+  });
+}
+
+function evaluateRefine(ctx: EvaluationContext, components: ComponentShells[], spec: CandidateSpec): { stats: FitStats; fit: FitSummary; ok: boolean } {
   const s = ctx.job.settings;
   const w = s.window;
+  const multiple = multipleOf(ctx, spec, components);
+  const msTable = new Map<ScatteringPath, ScatteringTable>();
+  multiple.forEach((m) => m.paths.forEach((p, i) => msTable.set(p, m.tables[i])));
   const recipe = rankingRecipe(
-    components.map((c, i) => ({ paths: c.pathSet.paths, share: components.length === 1 ? 'all' : i === 0 ? 'fraction' : 'rest' })),
+    components.map((c, i) => ({ paths: [...c.pathSet.paths, ...multiple[i].paths], share: components.length === 1 ? 'all' : i === 0 ? 'fraction' : 'rest' })),
     { ...s.recipe, kRange: w.kRange, rRange: w.rRange },
   );
+  if (s.multipleScattering) {
+    const kept = multiple.reduce((a, m) => a + m.paths.length, 0);
+    const found = multiple.reduce((a, m) => a + m.found, 0);
+    recipe.description.push(`${kept} of ${found} multiple-scattering path groups kept (plane waves, exact curved waves for collinear paths; at least ${s.multipleScattering.minImportance} of the strongest shell), `
+      + 'n fixed at their degeneracies, R = L/2 scaled by the expansion factor, msrd shared in bands (labels ms:..., collinear paths with their shell)');
+  }
   const lookups = components.map((c) => ctx.tables.forCandidate(c.pathSet.absorber, c.pathSet.edge, c.pathSet.environment));
-  const tables = recipe.paths.map((p, i) => lookups[recipe.componentOf[i]](p.scatterer, p.r));
+  const tables = recipe.paths.map((p, i) => msTable.get(p) ?? lookups[recipe.componentOf[i]](p.scatterer, p.r));
   const m = ctx.job.data;
   const problem = buildExafsProblem(recipe.parameters, [{
     name: m.name, k: m.k, chi: m.chi, noiseChi: m.noiseChi, paths: recipe.paths, tables, rules: recipe.rules,
@@ -234,7 +268,7 @@ export function evaluateCandidate(ctx: EvaluationContext, candidate: Candidate, 
   try {
     const s = ctx.job.settings;
     const components = componentsOf(spec, { absorber: s.absorber, edge: s.edge, radius: s.radius, tolerance: s.tolerance }, ctx.frames);
-    const scored = stage === 'prescreen' ? evaluatePrescreen(ctx, components) : evaluateRefine(ctx, components);
+    const scored = stage === 'prescreen' ? evaluatePrescreen(ctx, components) : evaluateRefine(ctx, components, spec);
     base.ok = scored.ok;
     base.stats = scored.stats;
     base.fit = scored.fit;

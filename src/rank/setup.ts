@@ -26,6 +26,7 @@ import type { Chi } from '../reduce/index';
 import type { AbsorberSelector } from '../structure/cluster';
 import { componentsOf, FrameCache, makeCandidates, type Candidate, type CandidateSpec } from './candidates';
 import { settingsHashOf, type CandidateSettings, type PrescreenDisorder, type RankJob } from './evaluate';
+import { DEFAULT_MULTIPLE_SCATTERING, type MultipleScatteringSettings } from './multiple';
 import { DEFAULT_SHARED_TABLE_STEP, type Environment, type TableMode } from './tables';
 
 /** What the user chooses; everything but the absorber has a default. */
@@ -52,6 +53,8 @@ export interface RankOptions {
   tables?: TableMode | 'auto';
   tableStep?: number;
   starts?: number;
+  /** Add multiple-scattering paths to the refinement (./multiple); true = the defaults. */
+  multipleScattering?: boolean | Partial<MultipleScatteringSettings>;
 }
 
 /** Measured data for a ranking. */
@@ -107,6 +110,8 @@ export function resolveSettings(options: RankOptions, chi: Chi, candidateCount: 
     provider: options.provider ?? 'firstPrinciples',
     tables: { mode, distanceStep: options.tableStep ?? (mode === 'shared' ? DEFAULT_SHARED_TABLE_STEP : 0) },
     starts: options.starts ?? 1,
+    // only when asked for, so the settings (and their hash) of a default run do not change
+    ...(options.multipleScattering ? { multipleScattering: { ...DEFAULT_MULTIPLE_SCATTERING, ...(options.multipleScattering === true ? {} : options.multipleScattering) } } : {}),
   };
   if (settings.radius < rRange[1] + pathMargin) {
     throw new InputError(`the cluster radius ${settings.radius} Å is smaller than the model range ${rRange[1] + pathMargin} Å (R max + margin)`, { key: '--radius' });

@@ -288,7 +288,7 @@ export type ClusterMemo = Map<string, ClusterStage>;
 /** Most cluster stages a memo keeps (least recently used dropped first; a stage is ~1 MB). */
 export const CLUSTER_MEMO_SIZE = 16;
 
-function lmaxFor(settings: FirstPrinciplesSettings, radius: number, k: number): number {
+export function lmaxFor(settings: FirstPrinciplesSettings, radius: number, k: number): number {
   return Math.min(settings.lmaxCap, Math.ceil(k * radius) + settings.lmaxExtra);
 }
 
@@ -383,7 +383,7 @@ function buildClusterStage(
 }
 
 /** Phase shifts of site `index` on the stage's coarse grid (computed once per stage and site). */
-function siteShifts(stage: ClusterStage, index: number, settings: FirstPrinciplesSettings): SiteShifts {
+export function siteShifts(stage: ClusterStage, index: number, settings: FirstPrinciplesSettings): SiteShifts {
   const known = stage.shifts.get(index);
   if (known) return known;
   const site = stage.radial[index];
@@ -412,6 +412,43 @@ function siteShifts(stage: ClusterStage, index: number, settings: FirstPrinciple
   const result = { lmax, re, im };
   stage.shifts.set(index, result);
   return result;
+}
+
+/**
+ * The cluster stage a request uses, from `memo` when it holds it (the same memo entry
+ * {@link computeFirstPrinciples} uses, so single- and multiple-scattering requests of one
+ * structure build their cluster once). The request's scatterer and distance only decide the
+ * default environment when the request gives none.
+ */
+export function clusterStageFor(
+  request: ScatteringRequest,
+  settings: FirstPrinciplesSettings = DEFAULT_FIRST_PRINCIPLES_SETTINGS,
+  atoms: AtomSource = solveAtomIntegrals,
+  memo?: ClusterMemo,
+): ClusterStage {
+  checkRequest(request);
+  const absorberElement = elementBySymbol(request.absorber);
+  const env = resolveEnvironment(request, settings);
+  const kMaxRequest = request.k.length ? request.k[request.k.length - 1] : settings.kFloor;
+  const kTop = Math.max(kMaxRequest, settings.kFloor) + 2 * settings.coarseStep;
+  const nCoarse = Math.max(4, Math.ceil((kTop - settings.kFloor) / settings.coarseStep) + 1);
+  const coarse = new Float64Array(nCoarse);
+  for (let i = 0; i < nCoarse; i++) coarse[i] = settings.kFloor + i * settings.coarseStep;
+  const stageKey = memo
+    ? hashOf({ absorber: absorberElement.symbol, edge: request.edge, absorberEnv: env.absorber, scatterers: env.scatterers, settings, nCoarse })
+    : '';
+  const known = memo?.get(stageKey);
+  if (known && memo) {
+    memo.delete(stageKey);
+    memo.set(stageKey, known);
+    return known;
+  }
+  const stage = buildClusterStage(request, env, settings, atoms, coarse);
+  if (memo) {
+    memo.set(stageKey, stage);
+    while (memo.size > CLUSTER_MEMO_SIZE) memo.delete(memo.keys().next().value as string);
+  }
+  return stage;
 }
 
 /**

@@ -31,6 +31,7 @@ import {
   type FirstPrinciplesSettings,
 } from './first-principles';
 import type { AtomIntegrals } from './muffin-tin';
+import { multipleScatteringFunctions, type PathGeometry } from './multiple-scattering';
 import { checkTable, type ScatteringProvider, type ScatteringRequest, type ScatteringTable } from './provider';
 
 export const FIRST_PRINCIPLES_PROVIDER_NAME = 'firstPrinciples';
@@ -146,6 +147,19 @@ export function firstPrinciplesProvider(options: FirstPrinciplesProviderOptions 
         }
       }
       return checkTable({ k: result.k, amplitude: result.amplitude, phase: result.phase, meanFreePath: result.meanFreePath, info }, request);
+    },
+    computeMultiple(request: ScatteringRequest, paths: readonly PathGeometry[]): ScatteringTable[] {
+      // not cached on disk: the expensive parts (cluster stage, phase shifts) are memoised above
+      const functions = multipleScatteringFunctions(request, paths, settings, atomSource, clusters);
+      return functions.map((f, i) => checkTable({
+        k: Float64Array.from(request.k), amplitude: f.amplitude, phase: f.phase, meanFreePath: f.meanFreePath,
+        info: {
+          provider: FIRST_PRINCIPLES_PROVIDER_NAME,
+          approximate: false,
+          settings: { ...settings, revision: FIRST_PRINCIPLES_REVISION, multipleScattering: 'plane-wave (small-atom) approximation' } as Record<string, unknown>,
+          hash: hashOf({ key: firstPrinciplesKey(request, settings), path: paths[i] }).slice(0, 16),
+        },
+      }, request));
     },
   };
 }

@@ -11,6 +11,7 @@
  */
 import { InputError } from '../core/errors';
 import type { EdgeName } from '../elements/index';
+import type { PathGeometry } from './multiple-scattering';
 
 /** One neighbour shell around a site, used by providers that build cluster potentials. */
 export interface NeighbourSpec {
@@ -65,6 +66,13 @@ export interface ScatteringProvider {
   /** One line for `--help` and reports. */
   readonly describe: string;
   compute(request: ScatteringRequest): ScatteringTable;
+  /**
+   * Optional: tables of multiple-scattering paths (./multiple-scattering), one per path, for the
+   * model with R = L / 2 and N = the path's degeneracy. The request's scatterer and distance name
+   * one single-scattering shell of the same environment. Providers without it cannot add
+   * multiple-scattering paths.
+   */
+  computeMultiple?(request: ScatteringRequest, paths: readonly PathGeometry[]): ScatteringTable[];
 }
 
 /** Check a table's shape against its request; providers call this before returning. */
