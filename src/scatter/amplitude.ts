@@ -63,7 +63,7 @@ export function translationCoefficients(finalL: number, lmax: number): Translati
 }
 
 /** i^n as [re, im]. */
-function iPower(n: number): [number, number] {
+export function iPower(n: number): [number, number] {
   switch (((n % 4) + 4) % 4) {
     case 0: return [1, 0];
     case 1: return [0, 1];

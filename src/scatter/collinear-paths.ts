@@ -22,6 +22,7 @@
 import { gaunt } from './angular';
 import { sphericalHankel } from './spherical-bessel';
 import { tMatrix } from './phase-shifts';
+import { iPower } from './amplitude';
 
 /** Angular coefficients 4 pi C(lm; l'm, l''0) sqrt((2l''+1)/4pi) for |m| <= finalL, l, l' <= lmax. */
 export interface ChainCoefficients {
@@ -55,16 +56,6 @@ export function chainCoefficients(finalL: number, lmax: number): ChainCoefficien
     coefficient.push(byFrom);
   }
   return { finalL, lmax, coefficient };
-}
-
-/** i^n as [re, im]. */
-function iPower(n: number): [number, number] {
-  switch (((n % 4) + 4) % 4) {
-    case 0: return [1, 0];
-    case 1: return [0, 1];
-    case 2: return [-1, 0];
-    default: return [0, -1];
-  }
 }
 
 /** One scatterer of a collinear chain: its phase shifts (l = 0..lmax) at this k. */

@@ -468,31 +468,9 @@ export function computeFirstPrinciples(
   const edgeData = absorberElement.edges[request.edge];
   if (!edgeData) throw new InputError(`${absorberElement.symbol} has no ${request.edge} edge in the element table`, { key: 'edge' });
   const gammaHartree = (edgeData.width ?? 0) / HARTREE_EV;
-  const env = resolveEnvironment(request, settings);
   const bohr = (a: number) => a / BOHR_RADIUS_A;
-
-  // coarse grid in 1/Å
-  const kMaxRequest = request.k.length ? request.k[request.k.length - 1] : settings.kFloor;
-  const kTop = Math.max(kMaxRequest, settings.kFloor) + 2 * settings.coarseStep;
-  const nCoarse = Math.max(4, Math.ceil((kTop - settings.kFloor) / settings.coarseStep) + 1);
-  const coarse = new Float64Array(nCoarse);
-  for (let i = 0; i < nCoarse; i++) coarse[i] = settings.kFloor + i * settings.coarseStep;
-
-  const stageKey = memo
-    ? hashOf({ absorber: absorberElement.symbol, edge: request.edge, absorberEnv: env.absorber, scatterers: env.scatterers, settings, nCoarse })
-    : '';
-  let stage = memo?.get(stageKey);
-  if (stage && memo) {
-    // most recently used last
-    memo.delete(stageKey);
-    memo.set(stageKey, stage);
-  } else {
-    stage = buildClusterStage(request, env, settings, atoms, coarse);
-    if (memo) {
-      memo.set(stageKey, stage);
-      while (memo.size > CLUSTER_MEMO_SIZE) memo.delete(memo.keys().next().value as string);
-    }
-  }
+  const stage = clusterStageFor(request, settings, atoms, memo);
+  const { coarse } = stage;
   const scattererIndex = stage.siteOf.get(scattererElement.symbol) ?? -1;
   if (scattererIndex < 0) throw new ComputationError(`no site built for scatterer ${scattererElement.symbol}`);
   const { cluster, channels, kInt } = stage;
@@ -575,7 +553,7 @@ export function computeFirstPrinciples(
       planeWaveAmplitude: planeWave,
       centralPhase,
       lmaxUsed: lmaxAll,
-      environment: env.given ? 'given' : 'default',
+      environment: resolveEnvironment(request, settings).given ? 'given' : 'default',
       fermiAboveInterstitialEv: settings.energyZero === 'fermi' ? (0.5 * kFermi * kFermi) * HARTREE_EV : 0,
     },
   };
