@@ -51,29 +51,47 @@ describe('EXAFS refinement on synthetic data (invented model, parametric provide
     }
   });
 
-  // Issue 5 asks for the truth inside the reported (1-sigma) errors in >= 90 % of 50 seeds. Measured
-  // over 100 seeds in R space with this two-shell model: e0 0.97, r1 0.88, s1 0.93, r2 0.86, s2 0.81;
-  // the reported errors are 1.5-2x the observed scatter, yet not always wide enough for 90 %. This
-  // test guards the level reached (>= 0.8 each, >= 0.88 on average), not the issue's target.
-  it('reports errors that cover the truth in most of 50 seeded noisy data sets (>= 80 % each, >= 88 % on average)', () => {
-    const sigma = 0.002; // per-point noise of chi(k), a typical magnitude for good transmission data
-    const names = ['e0', 'r1', 's1', 'r2', 's2'] as const;
-    const covered = Object.fromEntries(names.map((n) => [n, 0])) as Record<(typeof names)[number], number>;
-    const seeds = 50;
-    for (let seed = 1; seed <= seeds; seed++) {
-      const random = seededRandom(seed);
-      const noisy = Float64Array.from(clean, (c) => c + sigma * random.normal());
-      const result = refine(buildExafsProblem(parameters, [dataset(noisy, sigma, 'r')]));
-      expect(result.status.converged).toBe(true);
-      for (const n of names) {
-        const p = result.params[n];
-        if (Math.abs(p.value - truth[n]) <= p.error) covered[n]++;
+  // Error bars checked against the truth over 50 seeded noise draws (issue 5). A standard error
+  // is one standard deviation: for a calibrated error the truth lies within +-1 error in 68.3 % of
+  // draws (Gaussian, common practice, no source), so +-1 error is held to a binomial band around
+  // 0.683 (50 draws: sd 0.066; band 0.50-0.86) and the reported 95 % interval to >= 90 %.
+  // The mean reported error must match the observed scatter of the fitted values (0.75-1.33).
+  for (const space of ['r', 'k', 'q'] as const) {
+    it(`reports calibrated errors in ${space} space: 50 seeds, 1-sigma coverage near 68 %, 95 % intervals cover >= 90 %`, () => {
+      const sigma = 0.002; // per-point noise of chi(k), a typical magnitude for good transmission data
+      const names = ['e0', 'r1', 's1', 'r2', 's2'] as const;
+      const seeds = 50;
+      const within = Object.fromEntries(names.map((n) => [n, 0])) as Record<(typeof names)[number], number>;
+      const inside = { ...within };
+      const deviations = Object.fromEntries(names.map((n) => [n, [] as number[]])) as Record<(typeof names)[number], number[]>;
+      const errors = Object.fromEntries(names.map((n) => [n, [] as number[]])) as Record<(typeof names)[number], number[]>;
+      const noiseCache = new Map();
+      for (let seed = 1; seed <= seeds; seed++) {
+        const random = seededRandom(seed);
+        const noisy = Float64Array.from(clean, (c) => c + sigma * random.normal());
+        const result = refine(buildExafsProblem(parameters, [dataset(noisy, sigma, space)], { noiseCache }));
+        expect(result.status.converged).toBe(true);
+        expect(result.stats.errorMethod).toBe('propagated');
+        for (const n of names) {
+          const p = result.params[n];
+          if (Math.abs(p.value - truth[n]) <= p.error) within[n]++;
+          if (truth[n] >= p.interval![0] && truth[n] <= p.interval![1]) inside[n]++;
+          deviations[n].push(p.value - truth[n]);
+          errors[n].push(p.error);
+        }
       }
-    }
-    for (const n of names) expect(covered[n] / seeds, `coverage of ${n}`).toBeGreaterThanOrEqual(0.8);
-    const mean = names.reduce((s, n) => s + covered[n], 0) / (names.length * seeds);
-    expect(mean).toBeGreaterThanOrEqual(0.88);
-  });
+      for (const n of names) {
+        const mean = deviations[n].reduce((a, b) => a + b, 0) / seeds;
+        const scatter = Math.sqrt(deviations[n].reduce((a, b) => a + (b - mean) ** 2, 0) / (seeds - 1));
+        const meanError = errors[n].reduce((a, b) => a + b, 0) / seeds;
+        expect(meanError / scatter, `mean error / scatter of ${n}`).toBeGreaterThan(0.75);
+        expect(meanError / scatter, `mean error / scatter of ${n}`).toBeLessThan(1.33);
+        expect(within[n] / seeds, `1-sigma coverage of ${n}`).toBeGreaterThanOrEqual(0.5);
+        expect(within[n] / seeds, `1-sigma coverage of ${n}`).toBeLessThanOrEqual(0.86);
+        expect(inside[n] / seeds, `95 % interval coverage of ${n}`).toBeGreaterThanOrEqual(0.9);
+      }
+    });
+  }
 
   it('fits several k-weights at once and shares parameters between two data sets', () => {
     const result = refine(buildExafsProblem(parameters, [dataset(clean, 1e-3, 'r', [1, 2, 3]), { ...dataset(clean, 1e-3, 'k'), name: 'second' }]));

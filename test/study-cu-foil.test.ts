@@ -102,7 +102,7 @@ describe.skipIf(!existsSync(cuData))('a study reproduces shellrank fit on the me
     writeFileSync(join(folder, 'cu.study.yaml'), text);
     const run = await cli(['run', join(folder, 'cu.study.yaml'), '--provider', 'parametric']);
     expect(run.code).toBe(0);
-    expect(run.stdout).toMatch(/^parameter +value +error +state$/m);
+    expect(run.stdout).toMatch(/^parameter +value +error +95 % interval +state$/m);
     expect(run.stdout).toMatch(/^shell +species +n +r \(Å\) +± r +r0 \(Å\) +msrd \(Å\^2\) +± msrd$/m);
     expect(run.stdout).toMatch(/^Cu\.1 +Cu +12\.00 /m);
     const doc = JSON.parse(readFileSync(join(folder, 'out/cu.fit.json'), 'utf8'));

@@ -73,6 +73,12 @@ export interface FitStatisticsInput {
   atBound?: readonly ('lower' | 'upper' | null)[];
   /** |correlation| above which a pair is reported (default 0.9). */
   correlationThreshold?: number;
+  /**
+   * A better-founded covariance of the varied parameters (nu x nu), e.g. the noise-propagated one
+   * of ./noise-propagation.ts: when given, standard errors and correlations come from it instead
+   * of the scaled (J^T J)^-1 of the module header.
+   */
+  errorCovariance?: Float64Array | null;
 }
 
 /** Statistics of one fit. Values are NaN where undefined (see `warnings`). */
@@ -91,7 +97,7 @@ export interface FitStatistics {
   bic: number;
   /** sqrt(diag(scaledCovariance)); NaN without covariance or degrees of freedom. */
   standardErrors: Float64Array;
-  /** C_chi * reduced chi2 (nu x nu), or null. */
+  /** C_chi * reduced chi2 (nu x nu), or `errorCovariance` when given; null without covariance. */
   scaledCovariance: Float64Array | null;
   /** Correlation matrix (nu x nu), or null. */
   correlation: Float64Array | null;
@@ -155,18 +161,23 @@ export function fitStatistics(input: FitStatisticsInput): FitStatistics {
   let scaledCovariance: Float64Array | null = null;
   let correlation: Float64Array | null = null;
   const standardErrors = new Float64Array(nu).fill(NaN);
+  if (input.errorCovariance && input.errorCovariance.length !== nu * nu) {
+    throw new InputError(`error covariance has ${input.errorCovariance.length} entries, expected ${nu} x ${nu}`, { key: 'errorCovariance' });
+  }
   if (covariance) {
     const effectiveVariance = nPoints / inverseVarianceSum;
     const scale = (nPoints / nIndependent) * effectiveVariance * reducedChiSquare;
+    const shape = input.errorCovariance ?? covariance;
     correlation = new Float64Array(nu * nu);
     for (let a = 0; a < nu; a++) {
       for (let b = 0; b < nu; b++) {
-        const d = Math.sqrt(covariance[a * nu + a] * covariance[b * nu + b]);
-        correlation[a * nu + b] = a === b ? 1 : d > 0 ? covariance[a * nu + b] / d : NaN;
+        const d = Math.sqrt(shape[a * nu + a] * shape[b * nu + b]);
+        correlation[a * nu + b] = a === b ? 1 : d > 0 ? shape[a * nu + b] / d : NaN;
       }
     }
-    if (Number.isFinite(scale)) {
-      scaledCovariance = Float64Array.from(covariance, (c) => c * scale);
+    if (input.errorCovariance) scaledCovariance = input.errorCovariance;
+    else if (Number.isFinite(scale)) scaledCovariance = Float64Array.from(covariance, (c) => c * scale);
+    if (scaledCovariance) {
       for (let a = 0; a < nu; a++) standardErrors[a] = Math.sqrt(Math.max(scaledCovariance[a * nu + a], 0));
     }
     const threshold = input.correlationThreshold ?? 0.9;

@@ -13,6 +13,7 @@ import { hashOf } from '../core/hash';
 import { elementBySymbol } from '../elements/index';
 import { correlatedDebyeMsrd, einsteinMsrd, reducedMass } from '../model/disorder';
 import { buildExafsProblem } from '../fit/exafs/problem';
+import type { NoiseBlock } from '../fit/noise-propagation';
 import { refine, type FitStats } from '../fit/exafs/refine';
 import type { ScatteringPath } from '../paths/pathset';
 import { defaultProviders } from '../scatter/registry';
@@ -99,6 +100,8 @@ export interface EvaluationContext {
   frames: FrameCache;
   /** The provider behind `tables` (for multiple-scattering tables). */
   provider: ScatteringProvider;
+  /** Noise blocks of the refinement problems, shared by all candidates (same data and window). */
+  noiseCache: Map<string, NoiseBlock>;
 }
 
 /** Build the per-thread state for a job. */
@@ -108,7 +111,7 @@ export function makeContext(job: RankJob): EvaluationContext {
   const provider = defaultProviders({ cache: job.cache, cacheDir: job.cacheDir }).get(s.provider);
   const kMax = s.window.kRange[1] + s.window.kWindow.taper;
   const tables = new TableSource(provider, s.tables, job.referenceEnvironment, kMax);
-  return { job, window, tables, frames: new FrameCache((p) => resolvePath(job.cwd, p)), provider };
+  return { job, window, tables, frames: new FrameCache((p) => resolvePath(job.cwd, p)), provider, noiseCache: new Map() };
 }
 
 function firstSource(spec: CandidateSpec): { file: string; frame?: number } {
@@ -225,7 +228,7 @@ function evaluateRefine(ctx: EvaluationContext, components: ComponentShells[], s
   const problem = buildExafsProblem(recipe.parameters, [{
     name: m.name, k: m.k, chi: m.chi, noiseChi: m.noiseChi, paths: recipe.paths, tables, rules: recipe.rules,
     kRange: w.kRange, kWeights: w.kWeights, kWindow: w.kWindow, rRange: w.rRange, rWindow: w.rWindow, space: w.space,
-  }]);
+  }], { noiseCache: ctx.noiseCache });
   const result = refine(problem, { starts: s.starts });
   const fit: FitSummary = {
     stage: 'refine',

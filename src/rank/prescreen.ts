@@ -23,6 +23,7 @@ import { cubicUniform } from '../numeric/interpolate';
 import type { ScatteringPath } from '../paths/pathset';
 import type { ScatteringTable } from '../scatter/provider';
 import { fitStatistics } from '../fit/statistics';
+import { propagateNoise } from '../fit/noise-propagation';
 import { inverseSymmetricPositiveDefinite } from '../fit/dense';
 import type { FitStats, ValueWithError } from '../fit/exafs/refine';
 import { projectChi, type DataWindow } from './window';
@@ -242,7 +243,13 @@ export function prescreen(window: DataWindow, components: readonly PrescreenComp
   } catch {
     covariance = null;
   }
-  const stats = fitStatistics({ residuals, data, noise: 1, nIndependent: window.nIndependent, covariance, names, atBound });
+  let propagated = null;
+  if (covariance) {
+    const jacobian = new Float64Array(m * nu);
+    for (let p = 0; p < nu; p++) for (let i = 0; i < m; i++) jacobian[i * nu + p] = jacobianColumns[p][i];
+    propagated = propagateNoise(jacobian, m, nu, covariance, dot(residuals, residuals), window.noiseBlocks());
+  }
+  const stats = fitStatistics({ residuals, data, noise: 1, nIndependent: window.nIndependent, covariance, names, atBound, errorCovariance: propagated?.covariance ?? null });
   const errorOf = (name: string): number => {
     const i = names.indexOf(name);
     return i >= 0 ? stats.standardErrors[i] : 0;

@@ -10,6 +10,7 @@
  * a test checks it against the problem's own residuals.
  */
 import { buildExafsProblem, type CompiledDataset, type FitSpace } from '../fit/exafs/problem';
+import type { NoiseBlock } from '../fit/noise-propagation';
 import { backTransform, forwardTransform } from '../numeric/fourier';
 import type { WindowShape } from '../numeric/window';
 
@@ -44,6 +45,8 @@ export interface DataWindow {
   data: Float64Array;
   nResiduals: number;
   nIndependent: number;
+  /** How the data noise reaches the residuals (computed on first use, then kept). */
+  noiseBlocks(): NoiseBlock[];
 }
 
 /** Compile the window (validates the ranges against the data once). */
@@ -55,7 +58,10 @@ export function compileWindow(measured: MeasuredChi, settings: WindowSettings): 
       kRange: settings.kRange, kWeights: settings.kWeights, kWindow: settings.kWindow, rRange: settings.rRange, rWindow: settings.rWindow, space: settings.space,
     }],
   );
-  return { settings, measured, dataset: problem.datasets[0], data: problem.data, nResiduals: problem.nResiduals, nIndependent: problem.nIndependent };
+  return {
+    settings, measured, dataset: problem.datasets[0], data: problem.data, nResiduals: problem.nResiduals, nIndependent: problem.nIndependent,
+    noiseBlocks: problem.noiseBlocks,
+  };
 }
 
 /**

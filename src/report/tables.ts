@@ -344,6 +344,7 @@ const STATISTICS: { key: keyof FitStatistics; title: string; titleLatex: string;
   { key: 'rFactor', title: 'R-factor', titleLatex: 'R-factor', digits: 3 },
   { key: 'reducedChiSquare', title: 'reduced χ²', titleLatex: 'reduced $\\chi^2$', digits: 3 },
   { key: 'chiSquare', title: 'χ²', titleLatex: '$\\chi^2$', digits: 4 },
+  { key: 'misfitRatio', title: 'misfit / noise', titleLatex: 'misfit / noise', digits: 3 },
   { key: 'aic', title: 'AIC', titleLatex: 'AIC', digits: 4 },
   { key: 'bic', title: 'BIC', titleLatex: 'BIC', digits: 4 },
   { key: 'nIndependent', title: 'N_idp', titleLatex: '$N_\\mathrm{idp}$', digits: 3 },
@@ -355,7 +356,7 @@ const STATISTICS: { key: keyof FitStatistics; title: string; titleLatex: string;
  * against the best, independent points and varied parameters. The CSV adds the file.
  */
 export function rankingTable(candidates: readonly CandidateView[], caption = 'Ranking of the candidate structures'): Table {
-  const stats = STATISTICS.filter((s) => s.key !== 'chiSquare');
+  const stats = STATISTICS.filter((s) => s.key !== 'chiSquare' && s.key !== 'misfitRatio');
   const columns: TableColumn[] = [
     { key: 'rank', title: 'Rank', align: 'right' },
     { key: 'name', title: 'Candidate', align: 'left' },

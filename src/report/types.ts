@@ -63,6 +63,7 @@ const statsSchema = z.looseObject({
   nVaried: num.optional(),
   aic: num.optional(),
   bic: num.optional(),
+  misfitRatio: num.optional(),
 });
 
 const shellSchema = z.looseObject({
@@ -164,6 +165,8 @@ export interface FitStatistics {
   nVaried: number | null;
   aic: number | null;
   bic: number | null;
+  /** Sum of squares over its expectation for noise alone (fits with propagated errors). */
+  misfitRatio: number | null;
 }
 
 /** One shell (or group) row of a fit. */
@@ -270,6 +273,7 @@ function statsView(s: z.infer<typeof statsSchema>): FitStatistics {
     nVaried: s.nVaried ?? null,
     aic: s.aic ?? null,
     bic: s.bic ?? null,
+    misfitRatio: s.misfitRatio ?? null,
   };
 }
 

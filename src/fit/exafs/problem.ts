@@ -17,12 +17,13 @@
  */
 import { InputError } from '../../core/errors';
 import { evaluateModel, type ModelParameters } from '../../model/exafs';
-import { backTransform, forwardTransform } from '../../numeric/fourier';
+import { backTransform, forwardTransform, uniformGridOffset } from '../../numeric/fourier';
 import { windowOnGrid, type WindowShape, type WindowSpec } from '../../numeric/window';
 import type { ScatteringTable } from '../../scatter/provider';
 import type { ScatteringPath } from '../../paths/pathset';
 import { defineParameters, type ParameterSet, type ParameterSpec } from '../parameters';
 import { independentPoints } from '../statistics';
+import { noiseBlock, type NoiseBlock } from '../noise-propagation';
 
 export type FitSpace = 'k' | 'r' | 'q';
 export const FIT_SPACES: readonly FitSpace[] = ['k', 'r', 'q'];
@@ -73,6 +74,11 @@ export interface ExafsProblem {
   curves(free: Float64Array): DatasetCurves[];
   /** The weighted data vector (same layout as residuals), for the R-factor. */
   data: Float64Array;
+  /**
+   * How white noise of each data set's chi(k) (its `noiseChi` per point) reaches the residuals:
+   * one block per data set (../noise-propagation.ts). Computed on first call, then kept.
+   */
+  noiseBlocks(): NoiseBlock[];
 }
 
 export interface CompiledDataset {
@@ -125,8 +131,18 @@ function modelGrid(spec: FitDataset): { modelK: Float64Array; kWindow: WindowSpe
   return { modelK: spec.k.slice(0, count), kWindow };
 }
 
+/** Options of {@link buildExafsProblem}. */
+export interface BuildOptions {
+  /**
+   * Noise blocks of earlier problems, keyed by what they depend on (the data grid, noise, windows,
+   * ranges, k-weights and space, not the model): a caller that fits many models to the same data
+   * (ranking) passes one map to all of them and computes each block once.
+   */
+  noiseCache?: Map<string, NoiseBlock>;
+}
+
 /** Compile data sets and parameters into an evaluable problem (validates once). */
-export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets: readonly FitDataset[]): ExafsProblem {
+export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets: readonly FitDataset[], options: BuildOptions = {}): ExafsProblem {
   if (datasets.length === 0) throw new InputError('a fit needs at least one data set');
   const specs: ParameterSpec[] = [...parameters];
   const internal = (name: string, expression: string): string => {
@@ -288,5 +304,106 @@ export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets
     });
   };
 
-  return { parameters: set, userParameterCount: parameters.length, datasets: compiled, nResiduals, nIndependent: nIdp, residuals, jacobian, curves, data };
+  let blocks: NoiseBlock[] | null = null;
+  const noiseBlocks = (): NoiseBlock[] => {
+    blocks ??= compiled.map((d) => {
+      const key = noiseKey(d);
+      let block = options.noiseCache?.get(key);
+      if (!block) {
+        const { columns, matrix } = noiseMatrix(d);
+        block = noiseBlock(0, d.length, columns.length, matrix);
+        options.noiseCache?.set(key, block);
+      }
+      return { ...block, offset: d.offset };
+    });
+    return blocks;
+  };
+
+  return { parameters: set, userParameterCount: parameters.length, datasets: compiled, nResiduals, nIndependent: nIdp, residuals, jacobian, curves, data, noiseBlocks };
+}
+
+/** Everything a noise block depends on (see {@link BuildOptions.noiseCache}). */
+function noiseKey(d: CompiledDataset): string {
+  const k = d.modelK;
+  return JSON.stringify([d.spec.space, k.length, k[0], k[1] - k[0], d.spec.noiseChi, d.noise, d.kWindow, d.rWindow, d.kInside.length, d.rInside.length, d.length]);
+}
+
+/** Points of a data set's model grid that reach its residuals: the support of the k window. */
+function noiseColumns(d: CompiledDataset): number[] {
+  return [...d.windowK.keys()].filter((i) => d.windowK[i] !== 0);
+}
+
+/**
+ * d residual / d chi_data, times the data noise, for one compiled data set: rows in the residual
+ * layout of the set (from its offset), columns the points of {@link noiseColumns}. Written out in
+ * closed form for the transforms of ../../numeric/fourier.ts, with a_i = k_i^w W(k_i):
+ * - k: a_i / eps_k,w on the diagonal;
+ * - r: (dk / sqrt(pi)) a_i (cos, sin)(2 k_i R_j) / (eps_R / sqrt 2)  (the forward FFT, sign +);
+ * - q: a_i Re h(g_i - q_l) / eps_q,w, where h is the R-window filter kernel: the R-filtered
+ *   response to a unit at FFT index g depends on g - l alone and Re h is even, so one
+ *   back-transform of a unit at the last index gives every entry.
+ * test/fit-noise-propagation.test.ts checks each against the residual map applied to unit vectors.
+ */
+export function noiseMatrix(d: CompiledDataset): { columns: number[]; matrix: Float64Array } {
+  const columns = noiseColumns(d);
+  const c = columns.length;
+  const matrix = new Float64Array(d.length * c);
+  const k = d.modelK;
+  const dk = k[1] - k[0];
+  const sigmaChi = d.spec.noiseChi;
+  const { offset: gridOffset } = uniformGridOffset(k);
+  const nfft = 2048;
+  let kernel: Float64Array | null = null;
+  if (d.spec.space === 'q') {
+    const half = nfft / 2;
+    const g = half - 1;
+    const scale = dk / Math.sqrt(Math.PI);
+    const dr = Math.PI / (nfft * dk);
+    const x = new Float64Array(half);
+    const re = new Float64Array(half);
+    const im = new Float64Array(half);
+    for (let j = 0; j < half; j++) {
+      x[j] = j * dr;
+      const phase = (2 * Math.PI * g * j) / nfft;
+      re[j] = scale * Math.cos(phase);
+      im[j] = scale * Math.sin(phase);
+    }
+    const q = backTransform({ x, re, im }, { window: d.rWindow });
+    // Re h(delta) = q.re[g - |delta|]
+    kernel = Float64Array.from({ length: half }, (_, delta) => q.re[g - delta]);
+  }
+  let row = 0;
+  for (const noise of d.noise) {
+    const w = noise.kWeighting;
+    const weight = columns.map((i) => Math.pow(k[i], w) * d.windowK[i] * sigmaChi);
+    if (d.spec.space === 'k') {
+      for (const i of d.kInside) {
+        const col = columns.indexOf(i);
+        if (col >= 0) matrix[row * c + col] = weight[col] / noise.epsK;
+        row++;
+      }
+      continue;
+    }
+    if (d.spec.space === 'r') {
+      const factor = dk / Math.sqrt(Math.PI) / (noise.epsR / Math.SQRT2);
+      const dr = Math.PI / (nfft * dk);
+      for (const part of [Math.cos, Math.sin]) {
+        for (const j of d.rInside) {
+          const r = j * dr;
+          for (let col = 0; col < c; col++) matrix[row * c + col] = factor * weight[col] * part(2 * k[columns[col]] * r);
+          row++;
+        }
+      }
+      continue;
+    }
+    for (const l of d.kInside) {
+      const ql = Math.round(k[l] / dk);
+      for (let col = 0; col < c; col++) {
+        const delta = Math.abs(gridOffset + columns[col] - ql);
+        matrix[row * c + col] = (weight[col] * kernel![delta]) / noise.epsQ;
+      }
+      row++;
+    }
+  }
+  return { columns, matrix };
 }

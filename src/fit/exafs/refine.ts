@@ -8,6 +8,7 @@ import { makeProvenance, type InputRecord, type Provenance } from '../../core/pr
 import { fitLeastSquares, type FitStatus } from '../levenberg-marquardt';
 import { fitLeastSquaresMultiStart } from '../multistart';
 import { fitStatistics } from '../statistics';
+import { propagateNoise, studentTFactor } from '../noise-propagation';
 import type { ParameterState } from '../parameters';
 import type { DatasetCurves, ExafsProblem } from './problem';
 
@@ -18,7 +19,16 @@ export interface RefineOptions {
   maxIterations?: number;
 }
 
-export interface ValueWithError { value: number; error: number }
+export interface ValueWithError {
+  value: number;
+  /** Standard error (one standard deviation); 0 for fixed quantities. */
+  error: number;
+  /** Two-sided confidence interval at `stats.intervalLevel`, [lower, upper]; absent without errors. */
+  interval?: [number, number];
+}
+
+/** Confidence level of the intervals in a fit result. */
+export const INTERVAL_LEVEL = 0.95;
 
 export interface ShellResult {
   dataset: string;
@@ -43,6 +53,18 @@ export interface FitStats {
   degreesOfFreedom: number;
   aic: number;
   bic: number;
+  /**
+   * 'propagated': errors from the data noise carried through the fit's transforms, scaled by the
+   * misfit ratio (../noise-propagation.ts); 'scaled-covariance': (J^T J)^-1 scaled by the reduced
+   * chi-square (../statistics.ts), used when the propagation is not possible.
+   */
+  errorMethod?: 'propagated' | 'scaled-covariance';
+  /** Sum of squares over its expected value for noise alone (propagated errors only). */
+  misfitRatio?: number;
+  /** Degrees of freedom of the error scale, for the t-based intervals. */
+  effectiveDegreesOfFreedom?: number;
+  /** Confidence level of the `interval` fields. */
+  intervalLevel?: number;
 }
 
 export interface ParameterResult extends ValueWithError {
@@ -80,6 +102,11 @@ export function refine(problem: ExafsProblem, options: RefineOptions = {}, setti
   const fit = (options.starts ?? 1) > 1
     ? fitLeastSquaresMultiStart(lsProblem, { ...lsOptions, starts: options.starts, seed: options.seed ?? 1 })
     : fitLeastSquares(lsProblem, lsOptions);
+  let sumOfSquares = 0;
+  for (const r of fit.residuals) sumOfSquares += r * r;
+  const propagated = fit.covariance && fit.covariance.length > 0 && fit.jacobian.length === problem.nResiduals * set.freeNames.length
+    ? propagateNoise(fit.jacobian, problem.nResiduals, set.freeNames.length, fit.covariance, sumOfSquares, problem.noiseBlocks())
+    : null;
   const stats = fitStatistics({
     residuals: fit.residuals,
     data: problem.data,
@@ -88,14 +115,22 @@ export function refine(problem: ExafsProblem, options: RefineOptions = {}, setti
     covariance: fit.covariance,
     names: set.freeNames,
     atBound: fit.atBound,
+    errorCovariance: propagated?.covariance ?? null,
   });
+  const effectiveDegreesOfFreedom = propagated ? propagated.effectiveDegreesOfFreedom : stats.degreesOfFreedom;
+  const halfWidth = studentTFactor(INTERVAL_LEVEL, effectiveDegreesOfFreedom);
   const { estimates } = set.propagate(fit.params, stats.scaledCovariance);
+  const withInterval = (value: number, error: number): ValueWithError => {
+    const out: ValueWithError = { value, error };
+    if (error > 0 && Number.isFinite(error) && Number.isFinite(halfWidth)) out.interval = [value - halfWidth * error, value + halfWidth * error];
+    return out;
+  };
   const byName = new Map(estimates.map((e) => [e.name, e]));
   const params: Record<string, ParameterResult> = {};
   for (let i = 0; i < problem.userParameterCount; i++) {
     const name = set.names[i];
     const e = byName.get(name)!;
-    const result: ParameterResult = { value: e.value, error: e.error, state: e.state };
+    const result: ParameterResult = { ...withInterval(e.value, e.error), state: e.state };
     if (set.expressions[i]) result.expression = set.expressions[i];
     const free = set.freeNames.indexOf(name);
     if (free >= 0) {
@@ -109,7 +144,7 @@ export function refine(problem: ExafsProblem, options: RefineOptions = {}, setti
     d.spec.paths.forEach((path, pi) => {
       const get = (q: string): ValueWithError => {
         const e = byName.get(`_d${di}_p${pi}_${q}`)!;
-        return { value: e.value, error: e.error };
+        return withInterval(e.value, e.error);
       };
       shells.push({ dataset: d.spec.name, id: path.id, species: path.scatterer, r0: path.r, n: get('n'), r: get('r'), msrd: get('msrd'), c3: get('c3'), c4: get('c4') });
     });
@@ -132,6 +167,10 @@ export function refine(problem: ExafsProblem, options: RefineOptions = {}, setti
     stats: {
       rFactor: stats.rFactor, chiSquare: stats.chiSquare, reducedChiSquare: stats.reducedChiSquare, nIndependent: stats.nIndependent,
       nVaried: stats.nVaried, nPoints: stats.nPoints, degreesOfFreedom: stats.degreesOfFreedom, aic: stats.aic, bic: stats.bic,
+      errorMethod: propagated ? 'propagated' : 'scaled-covariance',
+      ...(propagated ? { misfitRatio: propagated.misfitRatio } : {}),
+      effectiveDegreesOfFreedom,
+      intervalLevel: INTERVAL_LEVEL,
     },
     params,
     shells,
