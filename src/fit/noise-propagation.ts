@@ -25,40 +25,133 @@
  * Biometrics Bulletin 2, 110 (1946)):
  *     nu_eff = tr(M)^2 / tr(M^2),  M = (I - H) S,
  *     tr(M^2) = tr(S^2) - 2 tr(A J^T S^2 J) + tr(A B A B),  B = J^T S J.
- * Only the P' blocks (one per data set; different data sets have independent noise) and J are
- * needed; the m x m matrix S is never formed.
+ * Only the blocks of S (one per data set; different data sets have independent noise), kept as
+ * low-rank factors, and J are needed; the whole m x m matrix S is never formed.
  */
-import { gramMatrix, gramMatrixOfColumns } from './dense';
+import { gramMatrixOfColumns } from './dense';
 import { fQuantileUpper } from './statistics';
 
-/** d residual / d(data point in units of its noise) for the rows of one data set. */
+/**
+ * How the data noise of one data set reaches its residual rows, kept as a low-rank factor of the
+ * residual covariance: S_block ~ F F^T with F (rows x rank) from a pivoted Cholesky factorisation
+ * (Harbrecht, Peters and Schneider, Appl. Numer. Math. 62, 428 (2012)), stopped when the trace
+ * left out falls below 1e-13 of tr(S). Windowed transforms make S of R- and q-space rows
+ * numerically low-rank (about 30-50 for R ranges of 2-3 Å), so the products of every fit cost
+ * rows x rank instead of rows x data points.
+ */
 export interface NoiseBlock {
   /** First residual row of the block and number of rows. */
   offset: number;
   rows: number;
-  /** Number of data points that reach these rows. */
-  columns: number;
-  /** rows x columns, row-major. */
-  matrix: Float64Array;
-  /** tr(S_block^2) = ||P'^T P'||_F^2 (depends on the data layout only, so computed once). */
-  traceSquared: number;
-  /** tr(S_block) = ||P'||_F^2. */
+  /** Columns of F. */
+  rank: number;
+  /** F^T (rank x rows, row-major): each factor column contiguous (dense factor). */
+  factor: Float64Array;
+  /** F^T F (rank x rank), for J^T S^2 J = (J^T F)(F^T F)(J^T F)^T. */
+  factorGram: Float64Array;
+  /**
+   * Instead of `factor`: when every row of P' has at most one non-zero (k-space rows), F = P'
+   * itself, held as (row, value) pairs per column; F^T F is then diagonal (`factorGram` holds
+   * its diagonal).
+   */
+  sparse?: { start: Int32Array; row: Int32Array; value: Float64Array };
+  /** tr(S_block) and tr(S_block^2), exact (from S before factorisation). */
   trace: number;
+  traceSquared: number;
 }
 
-/** Build a block, computing its two traces. */
+/**
+ * Build a block from P' (rows x columns, row-major: d residual / d data point, in units of the
+ * data noise), so that S = P' P'^T.
+ */
 export function noiseBlock(offset: number, rows: number, columns: number, matrix: Float64Array): NoiseBlock {
+  const sparse = sparseColumns(rows, columns, matrix);
+  if (sparse) {
+    const factorGram = new Float64Array(columns);
+    let trace = 0;
+    for (let c = 0; c < columns; c++) {
+      for (let t = sparse.start[c]; t < sparse.start[c + 1]; t++) factorGram[c] += sparse.value[t] ** 2;
+      trace += factorGram[c];
+    }
+    // S = P' P'^T has the same non-zero eigenvalues as the diagonal P'^T P'
+    const traceSquared = factorGram.reduce((a, g) => a + g * g, 0);
+    return { offset, rows, rank: columns, factor: new Float64Array(0), factorGram, trace, traceSquared, sparse };
+  }
+  // the row-major P' read as column-major is P'^T, whose Gram matrix is S = P' P'^T
+  const covariance = new Float64Array(rows * rows);
+  gramMatrixOfColumns(matrix, columns, rows, covariance);
   let trace = 0;
-  for (let i = 0; i < matrix.length; i++) trace += matrix[i] * matrix[i];
-  // ||P^T P||_F^2 = ||P P^T||_F^2 from the smaller Gram matrix (the SIMD kernel of ./dense.ts);
-  // the row-major P read as column-major is P^T, whose Gram matrix is P P^T
-  const n = Math.min(rows, columns);
-  const gram = new Float64Array(n * n);
-  if (rows <= columns) gramMatrixOfColumns(matrix, columns, rows, gram);
-  else gramMatrix(matrix, rows, columns, gram);
   let traceSquared = 0;
-  for (let i = 0; i < gram.length; i++) traceSquared += gram[i] * gram[i];
-  return { offset, rows, columns, matrix, trace, traceSquared };
+  for (let i = 0; i < rows; i++) trace += covariance[i * rows + i];
+  for (let i = 0; i < covariance.length; i++) traceSquared += covariance[i] * covariance[i];
+  const { factor, rank } = pivotedCholesky(covariance, rows, 1e-13 * trace);
+  const factorGram = new Float64Array(rank * rank);
+  for (let a = 0; a < rank; a++) {
+    for (let b = a; b < rank; b++) {
+      const v = dotAt(factor, a * rows, factor, b * rows, rows);
+      factorGram[a * rank + b] = v;
+      factorGram[b * rank + a] = v;
+    }
+  }
+  return { offset, rows, rank, factor, factorGram, trace, traceSquared };
+}
+
+/** The columns of P' as (row, value) lists when no row has more than one non-zero; else null. */
+function sparseColumns(rows: number, columns: number, matrix: Float64Array): NoiseBlock['sparse'] | null {
+  const columnOf = new Int32Array(rows).fill(-1);
+  for (let r = 0; r < rows; r++) {
+    for (let c = 0; c < columns; c++) {
+      if (matrix[r * columns + c] === 0) continue;
+      if (columnOf[r] >= 0) return null;
+      columnOf[r] = c;
+    }
+  }
+  const start = new Int32Array(columns + 1);
+  for (let r = 0; r < rows; r++) if (columnOf[r] >= 0) start[columnOf[r] + 1]++;
+  for (let c = 0; c < columns; c++) start[c + 1] += start[c];
+  const fill = start.slice(0, columns);
+  const row = new Int32Array(start[columns]);
+  const value = new Float64Array(start[columns]);
+  for (let r = 0; r < rows; r++) {
+    const c = columnOf[r];
+    if (c < 0) continue;
+    row[fill[c]] = r;
+    value[fill[c]++] = matrix[r * columns + c];
+  }
+  return { start, row, value };
+}
+
+/**
+ * Pivoted Cholesky factorisation of a symmetric positive semi-definite n x n matrix: columns f_q
+ * with S ~ sum_q f_q f_q^T, choosing the largest remaining diagonal each step, until the remaining
+ * trace is at most `tolerance`. Returns F^T (rank x n, row-major).
+ */
+function pivotedCholesky(matrix: Float64Array, n: number, tolerance: number): { factor: Float64Array; rank: number } {
+  const remaining = new Float64Array(n);
+  for (let i = 0; i < n; i++) remaining[i] = matrix[i * n + i];
+  const columns: Float64Array[] = [];
+  for (;;) {
+    let left = 0;
+    let pivot = 0;
+    for (let i = 0; i < n; i++) {
+      left += Math.max(remaining[i], 0);
+      if (remaining[i] > remaining[pivot]) pivot = i;
+    }
+    if (!(left > tolerance) || !(remaining[pivot] > 0) || columns.length === n) break;
+    const scale = 1 / Math.sqrt(remaining[pivot]);
+    const column = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      let v = matrix[i * n + pivot];
+      for (const f of columns) v -= f[i] * f[pivot];
+      column[i] = v * scale;
+    }
+    for (let i = 0; i < n; i++) remaining[i] -= column[i] * column[i];
+    remaining[pivot] = 0;
+    columns.push(column);
+  }
+  const factor = new Float64Array(columns.length * n);
+  columns.forEach((f, q) => factor.set(f, q * n));
+  return { factor, rank: columns.length };
 }
 
 export interface PropagatedErrors {
@@ -100,44 +193,36 @@ export function propagateNoise(
   for (const block of blocks) {
     traceS += block.trace;
     traceS2 += block.traceSquared;
-    const { offset, rows, columns, matrix } = block;
+    const { offset, rows, rank, factor, factorGram, sparse } = block;
     if (offset + rows > nResiduals) throw new RangeError(`noise block rows ${offset}+${rows} exceed ${nResiduals} residuals`);
-    const g = new Float64Array(nu * columns);
-    for (let r = 0; r < rows; r++) {
-      const jRow = (offset + r) * nu;
-      const pRow = r * columns;
+    // E = J_d^T F (nu x rank); B += E E^T; C += E (F^T F) E^T
+    const jt = new Float64Array(nu * rows);
+    for (let r = 0; r < rows; r++) for (let a = 0; a < nu; a++) jt[a * rows + r] = jacobian[(offset + r) * nu + a];
+    const e = new Float64Array(nu * rank);
+    const ef = new Float64Array(nu * rank);
+    if (sparse) {
       for (let a = 0; a < nu; a++) {
-        const jv = jacobian[jRow + a];
-        if (jv === 0) continue;
-        const ga = a * columns;
-        for (let c = 0; c < columns; c++) g[ga + c] += jv * matrix[pRow + c];
+        for (let q = 0; q < rank; q++) {
+          let v = 0;
+          for (let t = sparse.start[q]; t < sparse.start[q + 1]; t++) v += jt[a * rows + sparse.row[t]] * sparse.value[t];
+          e[a * rank + q] = v;
+          ef[a * rank + q] = v * factorGram[q];
+        }
       }
+    } else {
+      for (let a = 0; a < nu; a++) for (let q = 0; q < rank; q++) e[a * rank + q] = dotAt(jt, a * rows, factor, q * rows, rows);
+      for (let a = 0; a < nu; a++) for (let q = 0; q < rank; q++) ef[a * rank + q] = dotAt(e, a * rank, factorGram, q * rank, rank);
     }
     for (let a = 0; a < nu; a++) {
       for (let b = a; b < nu; b++) {
-        let s = 0;
-        for (let c = 0; c < columns; c++) s += g[a * columns + c] * g[b * columns + c];
+        const s = dotAt(e, a * rank, e, b * rank, rank);
+        const s2 = dotAt(ef, a * rank, e, b * rank, rank);
         gramNoise[a * nu + b] += s;
-        if (a !== b) gramNoise[b * nu + a] += s;
-      }
-    }
-    // P'_d G^T: rows x nu
-    const pg = new Float64Array(rows * nu);
-    for (let r = 0; r < rows; r++) {
-      const pRow = r * columns;
-      for (let a = 0; a < nu; a++) {
-        let s = 0;
-        const ga = a * columns;
-        for (let c = 0; c < columns; c++) s += matrix[pRow + c] * g[ga + c];
-        pg[r * nu + a] = s;
-      }
-    }
-    for (let a = 0; a < nu; a++) {
-      for (let b = a; b < nu; b++) {
-        let s = 0;
-        for (let r = 0; r < rows; r++) s += pg[r * nu + a] * pg[r * nu + b];
-        gramNoiseSquared[a * nu + b] += s;
-        if (a !== b) gramNoiseSquared[b * nu + a] += s;
+        gramNoiseSquared[a * nu + b] += s2;
+        if (a !== b) {
+          gramNoise[b * nu + a] += s;
+          gramNoiseSquared[b * nu + a] += s2;
+        }
       }
     }
   }
@@ -183,4 +268,11 @@ export function studentTFactor(level: number, dof: number): number {
   if (!(level > 0 && level < 1)) throw new RangeError(`confidence level must lie in (0, 1), got ${level}`);
   if (!(dof > 0)) return NaN;
   return Math.sqrt(fQuantileUpper(1 - level, 1, dof));
+}
+
+/** sum_i x[xo + i] y[yo + i], i < n (kept small so the engine optimises it as one loop). */
+function dotAt(x: Float64Array, xo: number, y: Float64Array, yo: number, n: number): number {
+  let s = 0;
+  for (let i = 0; i < n; i++) s += x[xo + i] * y[yo + i];
+  return s;
 }
