@@ -19,14 +19,14 @@
  * role the reduced chi-square plays in the usual recipe (design.md, Statistics), here with the
  * expected value computed for the actual windows instead of from Stern's count of independent
  * points (that count assumes box windows; for a Hann k window with a 1/Å taper the effective
- * number is about half of it, measured in test/fit-exafs-synthetic.test.ts).
+ * number is about half of it, measured in test/fit-noise-propagation.test.ts).
  * Because m is estimated from the residuals, confidence intervals use Student's t with the
  * effective degrees of freedom of ssr by the Welch-Satterthwaite approximation (Satterthwaite,
- * Biometrics Bulletin 2, 110 (1946)):
+ * Biometrics Bulletin 2, 110 (1946); reference from memory):
  *     nu_eff = tr(M)^2 / tr(M^2),  M = (I - H) S,
  *     tr(M^2) = tr(S^2) - 2 tr(A J^T S^2 J) + tr(A B A B),  B = J^T S J.
- * Only the blocks of S (one per data set; different data sets have independent noise), kept as
- * low-rank factors, and J are needed; the whole m x m matrix S is never formed.
+ * Only the blocks of S (one per data set; different data sets have independent noise), each
+ * formed once and kept as a low-rank factor, and J are needed; the whole m x m S never is.
  */
 import { gramMatrixOfColumns } from './dense';
 import { fQuantileUpper } from './statistics';
@@ -34,7 +34,7 @@ import { fQuantileUpper } from './statistics';
 /**
  * How the data noise of one data set reaches its residual rows, kept as a low-rank factor of the
  * residual covariance: S_block ~ F F^T with F (rows x rank) from a pivoted Cholesky factorisation
- * (Harbrecht, Peters and Schneider, Appl. Numer. Math. 62, 428 (2012)), stopped when the trace
+ * (Harbrecht, Peters and Schneider, Appl. Numer. Math. 62, 428 (2012); reference from memory), stopped when the trace
  * left out falls below 1e-13 of tr(S). Windowed transforms make S of R- and q-space rows
  * numerically low-rank (about 30-50 for R ranges of 2-3 Å), so the products of every fit cost
  * rows x rank instead of rows x data points.
