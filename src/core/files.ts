@@ -25,7 +25,9 @@ export function readTextFile(path: string): string {
 
 /**
  * Write `content` to `path` atomically. Refuses to overwrite any path listed in `protectedInputs`
- * (the run's input files), compared after resolving links.
+ * (the run's input files), compared after resolving links. A character device (a terminal, a null
+ * device) is written directly, since renaming over it would replace the device by a regular file;
+ * FIFOs, sockets and block devices are refused (a FIFO without a reader would block forever).
  */
 export function writeFileAtomic(path: string, content: string | Uint8Array, protectedInputs: readonly string[] = []): void {
   const target = resolve(path);
@@ -34,6 +36,10 @@ export function writeFileAtomic(path: string, content: string | Uint8Array, prot
     const inputReal = existsSync(input) ? realpathSync(input) : resolve(input);
     if (inputReal === targetReal) throw new InputError('refusing to overwrite an input file', { file: path });
   }
+  const existing = existsSync(target) ? statSync(targetReal) : undefined;
+  if (existing !== undefined && existing.isCharacterDevice()) return writeDirectly(target, content, path);
+  if (existing !== undefined && existing.isDirectory()) throw new InputError('is a folder, not a file', { file: path });
+  if (existing !== undefined && !existing.isFile()) throw new InputError('not a regular file (FIFO, socket or block device); refusing to write to it', { file: path });
   const folder = dirname(target);
   try {
     mkdirSync(folder, { recursive: true });
@@ -54,5 +60,19 @@ export function writeFileAtomic(path: string, content: string | Uint8Array, prot
     try { unlinkSync(temporary); } catch { /* already gone */ }
     if (e instanceof InputError) throw e;
     throw new InputError(`cannot write (${(e as NodeJS.ErrnoException).code ?? 'error'})`, { file: path });
+  }
+}
+
+/** Write to an existing character device without creating or renaming anything. */
+function writeDirectly(target: string, content: string | Uint8Array, shownPath: string): void {
+  try {
+    const fd = openSync(target, 'w');
+    try {
+      writeSync(fd, typeof content === 'string' ? Buffer.from(content, 'utf8') : content);
+    } finally {
+      closeSync(fd);
+    }
+  } catch (e) {
+    throw new InputError(`cannot write (${(e as NodeJS.ErrnoException).code ?? 'error'})`, { file: shownPath });
   }
 }
