@@ -112,3 +112,63 @@ export function multipleScatteringForComponent(
   });
   return { paths: kept, tables: keptTables, found: all.length };
 }
+
+/** One row of a path listing (single- and multiple-scattering paths together). */
+export interface ListedPath {
+  id: string;
+  legs: number;
+  /** Scatterers in the order visited (one for a single-scattering shell). */
+  atoms: string[];
+  /** Effective distance L / 2, Å. */
+  rEffective: number;
+  degeneracy: number;
+  /** Leg lengths, Å (a shell: there and back). */
+  legLengths: number[];
+  /** Importance relative to the strongest single-scattering shell (see the module header). */
+  importance: number;
+}
+
+export interface PathListingOptions {
+  /** Most legs of a listed path: 2 (shells only), 3 or 4. */
+  maxLegs: number;
+  /** Longest effective distance L / 2, Å. */
+  maxHalfLength: number;
+  /** Drop paths below this fraction of the strongest shell's importance. */
+  minImportance: number;
+  /** k range over which importance is averaged, 1/Å. */
+  kRange: [number, number];
+}
+
+/**
+ * Every path of one absorber's clusters up to `maxLegs` legs and `maxHalfLength`, with the
+ * importance rank uses to keep multiple-scattering paths, sorted by effective distance.
+ * @param shells the single-scattering shells (a PathSet's paths) and their environment.
+ * @returns the kept paths and how many were found before the importance cut.
+ * @throws InputError for more than 4 legs, or a provider without multiple-scattering tables.
+ */
+export function listPaths(
+  provider: ScatteringProvider,
+  clusters: readonly Cluster[],
+  shells: { absorber: string; edge: EdgeName; environment: Environment; paths: readonly ScatteringPath[] },
+  options: PathListingOptions,
+): { paths: ListedPath[]; found: number } {
+  const { maxLegs, maxHalfLength, minImportance, kRange } = options;
+  if (!Number.isInteger(maxLegs) || maxLegs < 2 || maxLegs > 4) throw new InputError(`the number of legs must be 2, 3 or 4 (longer paths are not enumerated), got ${maxLegs}`, { key: '--max-legs' });
+  if (maxLegs > 2 && !provider.computeMultiple) throw new InputError(`the ${provider.name} provider cannot compute multiple-scattering paths (use --max-legs 2)`, { key: '--provider' });
+  const kMax = kRange[1] + 1;
+  const single = shells.paths.filter((p) => p.r <= maxHalfLength + 1e-9);
+  const rows: ListedPath[] = [];
+  const singleTables = single.map((p) => provider.compute({ absorber: shells.absorber, scatterer: p.scatterer, edge: shells.edge, distance: p.r, k: tableGrid(kMax), environment: shells.environment }));
+  single.forEach((p, i) => rows.push({ id: p.id, legs: 2, atoms: [p.scatterer], rEffective: p.r, degeneracy: p.degeneracy, legLengths: [p.r, p.r], importance: importance(singleTables[i], p.degeneracy, p.r, kRange) }));
+  if (maxLegs > 2 && single.length > 0 && provider.computeMultiple) {
+    const all = multiplePaths(clusters, { maxHalfLength, fourLeg: maxLegs >= 4 });
+    const first = single[0];
+    const tables = all.length === 0 ? [] : provider.computeMultiple(
+      { absorber: shells.absorber, scatterer: first.scatterer, edge: shells.edge, distance: first.r, k: tableGrid(kMax), environment: shells.environment }, all);
+    all.forEach((p, i) => rows.push({ id: p.id, legs: p.legs, atoms: p.species, rEffective: p.halfLength, degeneracy: p.degeneracy, legLengths: p.legLengths, importance: importance(tables[i], p.degeneracy, p.halfLength, kRange) }));
+  }
+  const reference = Math.max(0, ...rows.filter((r) => r.legs === 2).map((r) => r.importance));
+  for (const r of rows) r.importance = reference > 0 ? r.importance / reference : 0;
+  const kept = rows.filter((r) => r.importance >= minImportance).sort((a, b) => a.rEffective - b.rEffective || a.legs - b.legs);
+  return { paths: kept, found: rows.length };
+}

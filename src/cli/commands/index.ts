@@ -2,6 +2,7 @@
 import type { Command } from 'commander';
 import type { CliIo } from '../io';
 import { registerShells } from './shells';
+import { registerPaths } from './paths';
 import { registerSimulate } from './simulate';
 import { registerDemo } from './demo';
 import { registerReduce } from './reduce';
@@ -15,4 +16,4 @@ import { registerMerge } from './merge';
 
 export type RegisterCommand = (program: Command, io: CliIo) => void;
 
-export const COMMANDS: RegisterCommand[] = [registerReduce, registerShells, registerSimulate, registerScatter, registerFit, registerRun, registerRank, registerScreen, registerMerge, registerReport, registerDemo];
+export const COMMANDS: RegisterCommand[] = [registerReduce, registerShells, registerPaths, registerSimulate, registerScatter, registerFit, registerRun, registerRank, registerScreen, registerMerge, registerReport, registerDemo];
