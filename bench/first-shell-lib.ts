@@ -6,7 +6,6 @@
  * shell free; optionally r fixed or c3 free), plus the phase of a Fourier-filtered shell.
  * Not the official fit pipeline.
  */
-import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { fitLeastSquares } from '../src/fit/levenberg-marquardt';
 import { evaluateModel, type ModelParameters } from '../src/model/exafs';
@@ -17,8 +16,7 @@ import { reduceScan } from '../src/reduce/index';
 import type { ScatteringProvider, ScatteringTable } from '../src/scatter/provider';
 import { latticeFromParameters, makeStructure, type Structure } from '../src/structure/structure';
 
-export const DATA = new URL('../../shared/data/', import.meta.url).pathname;
-export const dataPresent = (): boolean => existsSync(DATA);
+export const DATA = new URL('../test/data/', import.meta.url).pathname;
 
 type Site = [string, number, number, number];
 const FCC: [number, number, number][] = [[0, 0, 0], [0, 0.5, 0.5], [0.5, 0, 0.5], [0.5, 0.5, 0]];

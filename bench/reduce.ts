@@ -3,11 +3,10 @@
  * The scan is the invented one of src/reduce/synthetic.ts (1,000 energies, k up to 16 1/Å,
  * noise 0.002). Times the whole reduceScan (E0, normalisation, interpolation onto the 0.05 1/Å
  * grid, background fit, noise estimate): the first (cold) call, then the median, minimum and
- * maximum of 50 calls after 5 warm-up calls. When ../shared/data is present it also times reading
- * and reducing the measured Cu foil spectrum.
+ * maximum of 50 calls after 5 warm-up calls. It also times reading and reducing the measured Cu
+ * foil spectrum of test/data.
  * Prints one JSON object. Run: npx tsx bench/reduce.ts
  */
-import { existsSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { readScan } from '../src/read/spectrum/index';
 import { reduceScan, syntheticScan } from '../src/reduce/index';
@@ -34,17 +33,15 @@ const result: Record<string, unknown> = {
   targetMs: 100,
   node: process.version,
 };
-const cu = fileURLToPath(new URL('../../shared/data/cu_metal_rt.xdi', import.meta.url));
-if (existsSync(cu)) {
-  const runs: number[] = [];
-  for (let i = 0; i < 20; i++) {
-    const t = performance.now();
-    reduceScan(readScan(cu));
-    runs.push(performance.now() - t);
-  }
-  runs.sort((a, b) => a - b);
-  result.cuFoilReadAndReduceMedianMs = round(runs[runs.length >> 1]);
+const cu = fileURLToPath(new URL('../test/data/cu_metal_rt.xdi', import.meta.url));
+const runs: number[] = [];
+for (let i = 0; i < 20; i++) {
+  const t = performance.now();
+  reduceScan(readScan(cu));
+  runs.push(performance.now() - t);
 }
+runs.sort((a, b) => a - b);
+result.cuFoilReadAndReduceMedianMs = round(runs[runs.length >> 1]);
 process.stdout.write(JSON.stringify(result) + '\n');
 
 function round(x: number): number {

@@ -1,15 +1,14 @@
 import { describe, expect, it } from 'vitest';
-import { existsSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { cli, REPO, SHARED } from './helpers/cli';
+import { cli, REPO, TEST_DATA } from './helpers/cli';
 
 const tmp = () => mkdtempSync(join(tmpdir(), 'shellrank-fit-'));
-const cuData = join(SHARED, 'data/cu_metal_rt.xdi');
+const cuData = join(TEST_DATA, 'cu_metal_rt.xdi');
 const cuP1 = join(REPO, 'test/fixtures/structures/cu-p1.cif');
-const haveShared = existsSync(cuData);
 
-describe.skipIf(!haveShared)('shellrank fit on the measured Cu foil (skipped when ../shared/data is absent)', () => {
+describe('shellrank fit on the measured Cu foil', () => {
   it('writes the JSON of issue 5 with stats, params, shells, correlations, status and provenance', async () => {
     const dir = tmp();
     const out = join(dir, 'fit.json');

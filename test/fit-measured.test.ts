@@ -1,5 +1,5 @@
 /**
- * End to end on the measured spectra of ../shared/data (public-domain XDI example data):
+ * End to end on the measured spectra of test/data (public-domain XDI example data):
  * reduction with default settings, first-principles scattering functions, a first-shell
  * R-space fit with S0^2 free over k = 3-14 1/Å (issues 3 and 5).
  *
@@ -9,18 +9,15 @@
  * ZnSe a = 5.6676 Å (4 Se at 2.4541 Å).
  */
 import { describe, expect, it } from 'vitest';
-import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { loadChiOrReduce } from '../src/fit/exafs/data';
 import { fitStructure, type StructureFitResult } from '../src/fit/exafs/fit-structure';
 import { latticeFromParameters, makeStructure } from '../src/structure/structure';
 import { shellsOfStructure } from '../src/paths/index';
 import { defaultProviders } from '../src/scatter/registry';
-import { SHARED } from './helpers/cli';
+import { TEST_DATA as DATA } from './helpers/cli';
 import { correlatedDebyeMsrd, numberDensity, reducedMass } from '../src/model/disorder';
 
-const DATA = join(SHARED, 'data');
-const have = existsSync(join(DATA, 'cu_metal_rt.xdi'));
 
 const cubic = (a: number, species: string[], fractional: number[]) =>
   makeStructure({ species, positions: fractional.map((f) => f * a), lattice: latticeFromParameters(a, a, a, 90, 90, 90) });
@@ -35,7 +32,7 @@ const CASES = [
       [0, 0, 0, 0, 0.5, 0.5, 0.5, 0, 0.5, 0.5, 0.5, 0, 0.25, 0.25, 0.25, 0.25, 0.75, 0.75, 0.75, 0.25, 0.75, 0.75, 0.75, 0.25]) },
 ];
 
-describe.skipIf(!have)('first-shell fits of the measured spectra (skipped when ../shared/data is absent)', () => {
+describe('first-shell fits of the measured spectra', () => {
   const provider = defaultProviders().get('firstPrinciples');
   const results = new Map<string, StructureFitResult>();
   const resultOf = (c: (typeof CASES)[number]) => {

@@ -1,5 +1,5 @@
 /**
- * Acceptance of issue 6 on measured spectra (public-domain XDI example data in ../shared/data):
+ * Acceptance of issue 6 on measured spectra (public-domain XDI example data in test/data):
  * Cu foil, Fe foil and the Zn K edge of ZnSe ranked against crystal structures of the right and
  * of wrong arrangements, with the default ranking settings and the firstPrinciples provider.
  *
@@ -24,14 +24,13 @@
  * first and hcp second (tested below).
  */
 import { describe, it, expect, beforeAll } from 'vitest';
-import { existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { writeExtxyz } from '../src/read/structure/index';
 import { fractionalToCartesian, latticeFromParameters, makeStructure, type Structure } from '../src/structure/structure';
-import { SHARED, cli } from './helpers/cli';
+import { TEST_DATA as DATA, cli } from './helpers/cli';
 
-const DATA = join(SHARED, 'data');
 const FCC: [number, number, number][] = [[0, 0, 0], [0, 0.5, 0.5], [0.5, 0, 0.5], [0.5, 0.5, 0]];
 
 function crystal(lattice: Float64Array, sites: [string, number, number, number][]): Structure {
@@ -62,7 +61,7 @@ async function rank(dir: string, data: string, absorber: string, structures: Rec
 
 const WORSE = ['worse at 95 %', 'rejected'];
 
-describe.skipIf(!existsSync(DATA))('ranking crystal structures against measured spectra (needs ../shared/data)', () => {
+describe('ranking crystal structures against measured spectra', () => {
   let dir: string;
   beforeAll(() => {
     dir = mkdtempSync(join(tmpdir(), 'shellrank-measured-'));

@@ -1,18 +1,18 @@
 /**
- * The XDI reader against the public-domain XDI example data in ../shared/data: the three measured
+ * The XDI reader against the public-domain XDI example data in test/data: the three measured
  * spectra, and every malformed file of xdi-bad/ behaving as xdi-bad/BadFiles.txt says
  * ("error msg" -> an InputError naming file and line; "file read" -> a document, with the warning
  * BadFiles.txt's notes call for). Plus property tests: truncated or corrupted XDI text gives our
  * InputError naming the file, never another exception.
  */
-import { existsSync, readFileSync } from 'node:fs';
+import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { InputError } from '../src/core/errors';
 import { formatXdi, HC_EV_ANGSTROM, parseXdi, readScan, readScanText } from '../src/read/spectrum/index';
 
-const DATA = new URL('../../shared/data/', import.meta.url).pathname;
+const DATA = new URL('./data/', import.meta.url).pathname;
 const BAD = join(DATA, 'xdi-bad');
 
 type Expectation =
@@ -65,7 +65,7 @@ const BAD_FILES: Expectation[] = [
   { file: 'bad_35.xdi', status: 'read', warnings: [/Facility\.current '101x ma'/] },
 ];
 
-describe.skipIf(!existsSync(BAD))('xdi-bad files behave as BadFiles.txt says (skipped: ../shared/data/xdi-bad is absent)', () => {
+describe('xdi-bad files behave as BadFiles.txt says', () => {
   it('the table covers every file listed in BadFiles.txt', () => {
     const listed = readFileSync(join(BAD, 'BadFiles.txt'), 'utf8').match(/bad_\d\d\.xdi/g) ?? [];
     expect(BAD_FILES.map((b) => b.file).sort()).toEqual([...new Set(listed)].sort());
@@ -116,7 +116,7 @@ describe.skipIf(!existsSync(BAD))('xdi-bad files behave as BadFiles.txt says (sk
   });
 });
 
-describe.skipIf(!existsSync(DATA))('measured XDI spectra read cleanly (skipped: ../shared/data is absent)', () => {
+describe('measured XDI spectra read cleanly', () => {
   // Column layouts as the files' own Column.N fields state them.
   const cases = [
     { file: 'cu_metal_rt.xdi', points: 408, element: 'Cu', formula: 'ln(i0/itrans)' },

@@ -4,14 +4,13 @@
  * too few points above the edge for the requested k range, a given E0 outside the scan, an
  * inverted edge, and bad settings.
  */
-import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { InputError } from '../src/core/errors';
 import { makeScan, readScan, type Scan } from '../src/read/spectrum/index';
 import { reduceScan, syntheticScan, type ReductionOptions } from '../src/reduce/index';
 
-const DATA = new URL('../../shared/data/', import.meta.url).pathname;
+const DATA = new URL('./data/', import.meta.url).pathname;
 
 function failure(scan: Scan, options: ReductionOptions = {}): InputError {
   try {
@@ -30,7 +29,7 @@ function window(scan: Scan, lo: number, hi: number): Scan {
   return makeScan({ energy: pick(scan.energy), mu: pick(scan.mu), lines: keep.map((i) => scan.lines[i]), info: scan.info });
 }
 
-describe.skipIf(!existsSync(DATA))('measured Cu scan cut short (skipped: ../shared/data is absent)', () => {
+describe('measured Cu scan cut short', () => {
   const cu = () => readScan(join(DATA, 'cu_metal_rt.xdi'));
   it('a scan that stops before the edge', () => {
     const e = failure(window(cu(), 0, 8950));

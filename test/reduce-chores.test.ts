@@ -1,10 +1,9 @@
 /**
  * Beamline chores: energy calibration on the reference channel, aligning and merging repeated
  * scans, and glitch removal. Checked on invented scans whose shifts, noise and glitches are
- * known by construction (src/reduce/synthetic.ts), and on the measured spectra of ../shared/data
+ * known by construction (src/reduce/synthetic.ts), and on the measured spectra of test/data
  * (no glitch may be found in these clean public-domain scans).
  */
-import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { InputError } from '../src/core/errors';
@@ -12,7 +11,7 @@ import { edgeOf } from '../src/elements/index';
 import { makeScan, readScan, type Scan } from '../src/read/spectrum/index';
 import { calibrateScan, deglitchScan, DEFAULT_GLITCHES, DEFAULT_MERGE, detectSpikes, findE0, mergeScans, pointNoise, reduceScan, syntheticBackground, syntheticScan } from '../src/reduce/index';
 
-const DATA = new URL('../../shared/data/', import.meta.url).pathname;
+const DATA = new URL('./data/', import.meta.url).pathname;
 
 /** An invented scan moved by `shiftEv` in energy (a monochromator offset). */
 function shifted(scan: Scan, shiftEv: number, extra: Partial<Parameters<typeof makeScan>[0]> = {}): Scan {
@@ -97,7 +96,7 @@ describe('glitch removal', () => {
     expect(removed).toEqual([{ energy: target, line: 0, reason: 'flagged' }]);
     expect(() => deglitchScan(scan, { ...DEFAULT_GLITCHES, energies: [1] })).toThrow(/no point within 0.5 eV/);
   });
-  it.skipIf(!existsSync(DATA))('on the measured spectra flags only the one pre-edge bump of the Cu file (skipped without ../shared/data)', () => {
+  it('on the measured spectra flags only the one pre-edge bump of the Cu file', () => {
     for (const f of ['fe_metal_rt.xdi', 'zn_znse_rt.xdi']) {
       const { removed } = deglitchScan(readScan(join(DATA, f)), { ...DEFAULT_GLITCHES, detect: true });
       expect(removed).toEqual([]);

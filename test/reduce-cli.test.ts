@@ -1,19 +1,18 @@
 /**
- * `shellrank reduce` end to end on the measured spectra of ../shared/data: summary, JSON, the
+ * `shellrank reduce` end to end on the measured spectra of test/data: summary, JSON, the
  * three output files, merging, and bad input: a one-line error, exit code 2, and no output file
  * (not even a partial or temporary one).
  */
-import { existsSync, mkdtempSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { chiFromJson } from '../src/reduce/index';
-import { cli, cliProcess } from './helpers/cli';
+import { TEST_DATA as DATA, cli, cliProcess } from './helpers/cli';
 
-const DATA = new URL('../../shared/data/', import.meta.url).pathname;
 const CU = join(DATA, 'cu_metal_rt.xdi');
 
-describe.skipIf(!existsSync(DATA))('shellrank reduce (skipped: ../shared/data is absent)', () => {
+describe('shellrank reduce', () => {
   it('prints a summary with E0, the tabulated edge and every range used', async () => {
     const run = await cli(['reduce', CU]);
     expect(run.code).toBe(0);

@@ -1,6 +1,6 @@
 /**
  * A study reproduces the `fit` command: the measured Cu foil (public-domain XDI example data in
- * ../shared/data) against fcc Cu, a = 3.6149 Å (from memory, Wyckoff, Crystal Structures vol. 1;
+ * test/data) against fcc Cu, a = 3.6149 Å (from memory, Wyckoff, Crystal Structures vol. 1;
  * test/fixtures/structures/cu-p1.cif). The reference is the fit command's own result on the same
  * files: the study layer must not change a number (tolerance 1e-9 relative, 1e-12 absolute).
  * The default scattering provider (first principles) is used where the brief asks for fit's
@@ -8,12 +8,12 @@
  * (fast; the physics does not matter for them).
  */
 import { describe, expect, it } from 'vitest';
-import { copyFileSync, existsSync, readFileSync, writeFileSync } from 'node:fs';
+import { copyFileSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { cli, REPO, SHARED } from './helpers/cli';
+import { cli, REPO, TEST_DATA } from './helpers/cli';
 import { tempFolder } from './fixtures/studies/synthetic';
 
-const cuData = join(SHARED, 'data/cu_metal_rt.xdi');
+const cuData = join(TEST_DATA, 'cu_metal_rt.xdi');
 const cuP1 = join(REPO, 'test/fixtures/structures/cu-p1.cif');
 const studies = join(REPO, 'test/fixtures/studies');
 
@@ -57,7 +57,7 @@ async function json(args: string[]): Promise<Doc> {
   return JSON.parse(run.stdout) as Doc;
 }
 
-describe.skipIf(!existsSync(cuData))('a study reproduces shellrank fit on the measured Cu foil (skipped when ../shared/data is absent)', () => {
+describe('a study reproduces shellrank fit on the measured Cu foil', () => {
   it('the smallest study (no rules) gives the fit command\'s default result, first-principles provider', async () => {
     const fit = await json(['fit', cuData, cuP1, '--absorber', 'Cu']);
     const minimal = await json(['run', join(studies, 'cu-foil-minimal.study.yaml')]);
@@ -97,7 +97,7 @@ describe.skipIf(!existsSync(cuData))('a study reproduces shellrank fit on the me
     const folder = tempFolder();
     copyFileSync(join(studies, 'cu-foil-minimal.study.yaml'), join(folder, 'cu.study.yaml'));
     const text = readFileSync(join(folder, 'cu.study.yaml'), 'utf8')
-      .replace('../../../../shared/data/cu_metal_rt.xdi', cuData).replace('../structures/cu-p1.cif', cuP1)
+      .replace('../../data/cu_metal_rt.xdi', cuData).replace('../structures/cu-p1.cif', cuP1)
       + 'output:\n  json: out/cu.fit.json\n  report: out/report\n';
     writeFileSync(join(folder, 'cu.study.yaml'), text);
     const run = await cli(['run', join(folder, 'cu.study.yaml'), '--provider', 'parametric']);

@@ -4,7 +4,8 @@ import { fileURLToPath } from 'node:url';
 import { runCli } from '../../src/cli/main';
 
 export const REPO = fileURLToPath(new URL('../../', import.meta.url));
-export const SHARED = fileURLToPath(new URL('../../../shared/', import.meta.url));
+/** The public-domain measured spectra copied into the project (test/data/SOURCE.md). */
+export const TEST_DATA = fileURLToPath(new URL('../data/', import.meta.url));
 
 export interface CliRun { code: number; stdout: string; stderr: string }
 
