@@ -10,6 +10,7 @@
  * thread, then imports ./worker.ts.
  */
 import { Worker } from 'node:worker_threads';
+import { ComputationError, InputError, type InputLocation } from '../core/errors';
 import type { Candidate } from './candidates';
 import { evaluateCandidate, makeContext, type CandidateRecord, type RankJob, type Stage } from './evaluate';
 
@@ -23,7 +24,7 @@ export interface WorkerTask {
 /** Message from a worker to the pool. */
 export type WorkerReply =
   | { type: 'result'; seq: number; record: CandidateRecord }
-  | { type: 'fatal'; seq: number; message: string; stack: string };
+  | { type: 'fatal'; seq: number; message: string; stack: string; kind?: 'input' | 'computation'; reason?: string; where?: InputLocation };
 
 export interface PoolOptions {
   /** Number of worker threads (<= 1: score on the calling thread). */
@@ -135,6 +136,10 @@ export class CandidatePool {
     const b = this.batch;
     if (!b) return;
     if (reply.type === 'fatal') {
+      // an input or computation error keeps its class across the thread boundary, so the exit
+      // code is the same with and without workers
+      if (reply.kind === 'input') return this.fail(new InputError(reply.reason ?? reply.message, reply.where ?? {}));
+      if (reply.kind === 'computation') return this.fail(new ComputationError(reply.message));
       this.fail(new Error(`worker failed on candidate ${b.tasks[reply.seq]?.candidate.spec.name ?? reply.seq}: ${reply.message}\n${reply.stack}`));
       return;
     }

@@ -5,6 +5,7 @@
  * that goes wrong is reported to the pool as fatal.
  */
 import { parentPort, workerData } from 'node:worker_threads';
+import { ComputationError, InputError } from '../core/errors';
 import { evaluateCandidate, makeContext, type RankJob } from './evaluate';
 import type { WorkerReply, WorkerTask } from './pool';
 
@@ -18,6 +19,9 @@ port.on('message', (message: WorkerTask) => {
     port.postMessage({ type: 'result', seq: message.seq, record } satisfies WorkerReply);
   } catch (error) {
     const e = error instanceof Error ? error : new Error(String(error));
-    port.postMessage({ type: 'fatal', seq: message.seq, message: e.message, stack: e.stack ?? '' } satisfies WorkerReply);
+    const reply: WorkerReply = { type: 'fatal', seq: message.seq, message: e.message, stack: e.stack ?? '' };
+    if (e instanceof InputError) Object.assign(reply, { kind: 'input', reason: e.reason, where: { file: e.file, line: e.line, key: e.key } });
+    else if (e instanceof ComputationError) Object.assign(reply, { kind: 'computation' });
+    port.postMessage(reply);
   }
 });

@@ -202,6 +202,10 @@ function progressWriter(io: CliIo, quiet: boolean): ((event: ProgressEvent) => v
 /** Print or write the assembled ranking (shared with merge). */
 export function presentRanking(io: CliIo, ranking: AssembledRanking, raw: { out?: string; json?: boolean; markdown?: boolean; csv?: boolean; limit: string }, extra: { settings: Record<string, unknown>; inputs: InputRecord[]; protectedInputs: string[] }): void {
   const settings: Record<string, unknown> = { ...extra.settings, settingsHash: ranking.header.settingsHash, candidates: ranking.candidates, refined: ranking.refined, shards: ranking.shards };
+  if (ranking.entries.length > 0 && ranking.entries.every((e) => !e.ok)) {
+    const first = ranking.entries.find((e) => e.error !== undefined);
+    throw new InputError(`no candidate could be ranked (all ${ranking.entries.length} failed${first ? `; ${first.name}: ${first.error}` : ''})`);
+  }
   const provenance = makeProvenance({ stage: 'rank', ...settings }, extra.inputs);
   if (raw.out !== undefined) {
     const dir = resolve(io.cwd, raw.out);
