@@ -12,7 +12,7 @@ import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { combineChannels } from '../src/scatter/amplitude';
 import { computeFirstPrinciples, DEFAULT_FIRST_PRINCIPLES_SETTINGS, type ClusterMemo } from '../src/scatter/first-principles';
-import { firstPrinciplesKey, firstPrinciplesProvider, resolveCacheDir } from '../src/scatter/provider-first-principles';
+import { firstPrinciplesKey, firstPrinciplesProvider, resolveCacheDir, scatteringCacheChecksum } from '../src/scatter/provider-first-principles';
 import type { ScatteringRequest } from '../src/scatter/provider';
 
 const folder = mkdtempSync(join(tmpdir(), 'shellrank-scatter-test-'));
@@ -38,14 +38,29 @@ describe('firstPrinciples provider and its cache', () => {
     for (const column of [table.amplitude, table.phase, table.meanFreePath]) for (const v of column) expect(Number.isFinite(v)).toBe(true);
     const files = readdirSync(folder).filter((f) => f.endsWith('.json'));
     expect(files.length).toBe(1);
-    // doctor the cached amplitude: a second provider must return it (so it read the file)
+    // doctor the cached amplitude and its checksum consistently: a second provider must return it
+    // (so it read the file)
     const path = join(folder, files[0]);
     const data = JSON.parse(readFileSync(path, 'utf8'));
     data.amplitude[0] = 123;
+    data.checksum = scatteringCacheChecksum(data);
     writeFileSync(path, JSON.stringify(data));
     const again = firstPrinciplesProvider({ cacheDir: folder }).compute(cuRequest);
     expect(again.amplitude[0]).toBe(123);
     expect(Array.from(again.phase)).toEqual(Array.from(table.phase));
+    // tampered without fixing the checksum (doubled amplitudes): recomputed and rewritten
+    const tampered = JSON.parse(readFileSync(path, 'utf8'));
+    tampered.amplitude = tampered.amplitude.map((a: number) => 2 * a);
+    writeFileSync(path, JSON.stringify(tampered));
+    const recomputed = firstPrinciplesProvider({ cacheDir: folder }).compute(cuRequest);
+    expect(Array.from(recomputed.amplitude)).toEqual(Array.from(table.amplitude));
+    expect(JSON.parse(readFileSync(path, 'utf8')).amplitude[1]).toBe(table.amplitude[1]);
+    // a record without a checksum is not trusted either
+    const unsigned = JSON.parse(readFileSync(path, 'utf8'));
+    delete unsigned.checksum;
+    unsigned.amplitude[0] = 123;
+    writeFileSync(path, JSON.stringify(unsigned));
+    expect(firstPrinciplesProvider({ cacheDir: folder }).compute(cuRequest).amplitude[0]).toBe(table.amplitude[0]);
     // cache: false ignores it
     const fresh = firstPrinciplesProvider({ cacheDir: folder, cache: false }).compute(cuRequest);
     expect(fresh.amplitude[0]).toBe(table.amplitude[0]);

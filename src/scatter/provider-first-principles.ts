@@ -9,7 +9,8 @@
  *   (species, edge, distance, k grid, environment, settings, code version and physics revision);
  *   the folder is, first match wins: the `cacheDir` option, $SHELLRANK_CACHE_DIR,
  *   $XDG_CACHE_HOME/shellrank, ~/.cache/shellrank. Files are written atomically. `cache: false`
- *   bypasses it (neither read nor written). A damaged cache file is ignored and rewritten.
+ *   bypasses it (neither read nor written). Each file carries a SHA-256 checksum of its columns; a
+ *   damaged or edited file (checksum missing or wrong) is ignored, recomputed and rewritten.
  * - in memory, for the provider's lifetime: the solved atoms (keyed by Z, core hole and revision),
  *   and the cluster stages (muffin tins, interstitial levels, central-atom and site phase shifts)
  *   of the clusters already met, so that several shells of one structure build their cluster once.
@@ -63,6 +64,17 @@ interface CachedTable {
   amplitude: number[];
   phase: number[];
   meanFreePath: number[];
+  /** {@link scatteringCacheChecksum} of the record; a file whose columns do not match is recomputed. */
+  checksum?: string;
+}
+
+/**
+ * SHA-256 of a cache record's key and columns. It catches edits and damage to a cache file
+ * (a hand-doubled amplitude would otherwise be trusted); it is no protection against someone who
+ * rewrites the checksum as well.
+ */
+export function scatteringCacheChecksum(record: Pick<CachedTable, 'key' | 'k' | 'amplitude' | 'phase' | 'meanFreePath'>): string {
+  return hashOf({ key: record.key, k: record.k, amplitude: record.amplitude, phase: record.phase, meanFreePath: record.meanFreePath });
 }
 
 /** Everything that determines a result, hashed for the cache key and the table's provenance. */
@@ -87,6 +99,7 @@ function readCache(path: string, key: string, n: number): CachedTable | null {
     const data = JSON.parse(readFileSync(path, 'utf8')) as CachedTable;
     if (data.format !== 'shellrank-scattering-cache' || data.key !== key) return null;
     if (data.k.length !== n || data.amplitude.length !== n || data.phase.length !== n || data.meanFreePath.length !== n) return null;
+    if (data.checksum !== scatteringCacheChecksum(data)) return null;
     return data;
   } catch {
     return null;
@@ -140,6 +153,7 @@ export function firstPrinciplesProvider(options: FirstPrinciplesProviderOptions 
           phase: Array.from(result.phase),
           meanFreePath: Array.from(result.meanFreePath),
         };
+        record.checksum = scatteringCacheChecksum(record);
         try {
           writeFileAtomic(path, JSON.stringify(record));
         } catch {
