@@ -5,6 +5,7 @@ import { readTextFile } from '../../core/files';
 import { loadStructureFile, pickFrame } from '../../read/load-structure';
 import { shellsOfStructure } from '../../paths/index';
 import { defaultProviders, DEFAULT_PROVIDER } from '../../scatter/registry';
+import { absorberAndEdgeFromData } from '../../fit/exafs/absorber-from-data';
 import { loadChiOrReduce } from '../../fit/exafs/data';
 import { fitStructure, DEFAULT_FIT_SETTINGS, type StructureFitSettings } from '../../fit/exafs/fit-structure';
 import { fitDocument } from '../../fit/exafs/document';
@@ -48,10 +49,10 @@ export function addFitOptions(command: Command): Command {
     .option('--no-cache', 'recompute scattering functions instead of reading the on-disk cache');
 }
 
-/** S0^2 from an earlier fit document. */
+/** S0^2 from an earlier fit document; refused when that fit did not converge (its S0^2 calibrates nothing). */
 export function ampFromFit(path: string): number {
   const text = readTextFile(path);
-  let doc: { params?: { amp?: { value?: unknown } } };
+  let doc: { params?: { amp?: { value?: unknown } }; status?: { converged?: unknown; message?: unknown } };
   try {
     doc = JSON.parse(text);
   } catch {
@@ -59,6 +60,10 @@ export function ampFromFit(path: string): number {
   }
   const value = doc?.params?.amp?.value;
   if (typeof value !== 'number' || !Number.isFinite(value)) throw new InputError('has no params.amp.value (is it a shellrank fit result?)', { file: path, key: '--amp-from' });
+  if (doc.status?.converged === false) {
+    const why = typeof doc.status.message === 'string' ? ` (${doc.status.message})` : '';
+    throw new InputError(`the reference fit did not converge${why}; refit the reference before taking S0^2 from it`, { file: path, key: '--amp-from' });
+  }
   return value;
 }
 
@@ -86,6 +91,7 @@ export function registerFit(program: Command, io: CliIo): void {
       .description('refine one structure against one measured spectrum (raw beamline file or saved reduction)')
       .argument('<data>', 'measured spectrum: XDI, columns, or a shellrank-chi JSON from `reduce --out`')
       .argument('<structure>', 'structure file (XYZ, extended XYZ, CIF, PDB)'),
+    { fromData: true },
   ))
     .option('--json', 'write the fit as JSON')
     .option('--out <file>', 'write to this file instead of the terminal')
@@ -95,9 +101,10 @@ export function registerFit(program: Command, io: CliIo): void {
       const settings = parseFitOptions(raw);
       const provider = defaultProviders({ cache: raw.cache }).get(raw.provider);
       const data = loadChiOrReduce(dataFile);
+      const { absorber, edge } = absorberAndEdgeFromData(data.chi, o, dataFile);
       const loaded = loadStructureFile(structureFile, { format: o.format });
       const structure = pickFrame(loaded, o.frame);
-      const set = shellsOfStructure(structure, { absorber: o.absorber, radius: o.radius, tolerance: o.tolerance, edge: o.edge, structureHash: loaded.sha256 });
+      const set = shellsOfStructure(structure, { absorber, radius: o.radius, tolerance: o.tolerance, edge, structureHash: loaded.sha256 });
       const result = fitStructure(data.chi, set, provider, settings, [
         { role: 'data', file: dataFile, sha256: data.sha256 },
         { role: 'structure', file: structureFile, sha256: loaded.sha256 },
