@@ -9,6 +9,7 @@ import { ComputationError, EXIT_CODES, InputError } from '../core/errors';
 import { SHELLRANK_VERSION } from '../core/provenance';
 import { COMMANDS } from './commands/index';
 import type { CliIo } from './io';
+import { escapeForTerminal } from './terminal-text';
 
 export function buildProgram(io: CliIo): Command {
   const program = new Command();
@@ -40,17 +41,17 @@ export async function runCli(argv: readonly string[], io: CliIo): Promise<number
       return error.exitCode === 0 ? EXIT_CODES.ok : EXIT_CODES.input;
     }
     if (error instanceof InputError) {
-      io.stderr(`shellrank: error: ${error.message}\n`);
+      io.stderr(`shellrank: error: ${escapeForTerminal(error.message)}\n`);
       if (debug) io.stderr(`${error.stack}\n`);
       return EXIT_CODES.input;
     }
     if (error instanceof ComputationError) {
-      io.stderr(`shellrank: computation failed: ${error.message}\n`);
+      io.stderr(`shellrank: computation failed: ${escapeForTerminal(error.message)}\n`);
       if (debug) io.stderr(`${error.stack}\n`);
       return EXIT_CODES.computation;
     }
     const message = error instanceof Error ? error.message : String(error);
-    io.stderr(`shellrank: internal error: ${message.split('\n')[0]} (run with --debug for details)\n`);
+    io.stderr(`shellrank: internal error: ${escapeForTerminal(message.split('\n')[0])} (run with --debug for details)\n`);
     if (debug && error instanceof Error) io.stderr(`${error.stack}\n`);
     return EXIT_CODES.internal;
   }
