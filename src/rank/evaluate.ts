@@ -22,7 +22,7 @@ import type { EdgeName } from '../elements/index';
 import { candidateKey, componentsOf, FrameCache, type Candidate, type CandidateSpec, type ComponentShells } from './candidates';
 import { prescreen } from './prescreen';
 import { rankingRecipe, type RankingRecipeOptions } from './recipe';
-import { TableSource, type Environment, type TablePolicy } from './tables';
+import { TableSource, type Environment, type TableOrigin, type TablePolicy } from './tables';
 import { clustersOfCandidate, multipleScatteringForComponent, type MultipleScatteringSettings } from './multiple';
 import type { ScatteringProvider, ScatteringTable } from '../scatter/provider';
 import { distanceResolution, resolvedShells, type ResolvedShell } from './verdicts';
@@ -88,6 +88,8 @@ export interface CandidateRecord {
   /** Keys of candidates nested in this one (mixture parts). */
   contains?: string[];
   fit: FitSummary | null;
+  /** How the scattering tables of each component were made. */
+  tables?: TableOrigin[];
   /** Wall time of this candidate, ms (not part of any result). */
   ms: number;
 }
@@ -271,6 +273,7 @@ export function evaluateCandidate(ctx: EvaluationContext, candidate: Candidate, 
   try {
     const s = ctx.job.settings;
     const components = componentsOf(spec, { absorber: s.absorber, edge: s.edge, radius: s.radius, tolerance: s.tolerance }, ctx.frames);
+    base.tables = components.map((c) => ctx.tables.originOf(c.pathSet.environment));
     const scored = stage === 'prescreen' ? evaluatePrescreen(ctx, components) : evaluateRefine(ctx, components, spec);
     base.ok = scored.ok;
     base.stats = scored.stats;

@@ -86,6 +86,7 @@ export function candidateDocument(e: RankingEntry): Record<string, unknown> {
   const fit: FitSummary | null = record.fit;
   const doc: Record<string, unknown> = { name: e.name, file: e.file };
   if (e.frame !== undefined) doc.frame = e.frame;
+  if (record.tables) doc.tables = record.tables;
   doc.key = e.key;
   doc.rank = e.rank;
   doc.verdict = e.verdict;

@@ -14,10 +14,12 @@
  *   order-of-magnitude choice for metals and simple compounds near room temperature, common
  *   practice, no source; give --debye-temp or --einstein-temp for the sample), e0 searched in
  *   -15..15 eV;
- * - tables: 'own' for up to 20 candidates, else 'shared' (./tables explains both).
+ * - tables: 'own' whatever the number of candidates ('auto' means 'own': a candidate's result never
+ *   depends on how many others are ranked with it; ./tables explains both policies).
  */
 import { resolve as resolvePath } from 'node:path';
 import { InputError } from '../core/errors';
+import { hashOf } from '../core/hash';
 import { SHELLRANK_VERSION } from '../core/provenance';
 import type { EdgeName } from '../elements/index';
 import type { FitSpace } from '../fit/exafs/problem';
@@ -53,7 +55,7 @@ export interface RankOptions {
   tables?: TableMode | 'auto';
   tableStep?: number;
   starts?: number;
-  /** Add multiple-scattering paths to the refinement (./multiple); true = the defaults. */
+  /** Multiple-scattering paths in the refinement (./multiple): on by default; false = single scattering only. */
   multipleScattering?: boolean | Partial<MultipleScatteringSettings>;
 }
 
@@ -77,11 +79,11 @@ export function defaultKRange(chi: Chi): [number, number] {
 }
 
 /** Fill in every default (see the module header). */
-export function resolveSettings(options: RankOptions, chi: Chi, candidateCount: number): CandidateSettings {
+export function resolveSettings(options: RankOptions, chi: Chi, _candidateCount?: number): CandidateSettings {
   const rRange = options.rRange ?? [1.2, 4.0];
   const pathMargin = options.pathMargin ?? 0.5;
   const tables = options.tables ?? 'auto';
-  const mode: TableMode = tables === 'auto' ? (candidateCount <= 20 ? 'own' : 'shared') : tables;
+  const mode: TableMode = tables === 'auto' ? 'own' : tables;
   const settings: CandidateSettings = {
     absorber: options.absorber,
     edge: options.edge ?? 'K',
@@ -110,8 +112,7 @@ export function resolveSettings(options: RankOptions, chi: Chi, candidateCount: 
     provider: options.provider ?? 'firstPrinciples',
     tables: { mode, distanceStep: options.tableStep ?? (mode === 'shared' ? DEFAULT_SHARED_TABLE_STEP : 0) },
     starts: options.starts ?? 1,
-    // only when asked for, so the settings (and their hash) of a default run do not change
-    ...(options.multipleScattering ? { multipleScattering: { ...DEFAULT_MULTIPLE_SCATTERING, ...(options.multipleScattering === true ? {} : options.multipleScattering) } } : {}),
+    ...(options.multipleScattering === false ? {} : { multipleScattering: { ...DEFAULT_MULTIPLE_SCATTERING, ...(typeof options.multipleScattering === 'object' ? options.multipleScattering : {}) } }),
   };
   if (settings.radius < rRange[1] + pathMargin) {
     throw new InputError(`the cluster radius ${settings.radius} Å is smaller than the model range ${rRange[1] + pathMargin} Å (R max + margin)`, { key: '--radius' });
@@ -120,9 +121,9 @@ export function resolveSettings(options: RankOptions, chi: Chi, candidateCount: 
 }
 
 /**
- * Prepare a ranking: settings, the reference environment (from the first candidate, or
- * `reference` when given) and the job for the workers.
- * @throws InputError when there are no candidates or the reference candidate cannot be read.
+ * Prepare a ranking: settings, the reference environment of shared tables (only when
+ * `reference` is given) and the job for the workers.
+ * @throws InputError when there are no candidates or the reference cannot be read.
  */
 export function prepareRanking(data: RankData, specs: readonly CandidateSpec[], options: RankOptions, context: { cwd: string; cache?: boolean; cacheDir?: string; reference?: CandidateSpec }): PreparedRanking {
   if (specs.length === 0) throw new InputError('no candidates to rank');
@@ -135,22 +136,14 @@ export function prepareRanking(data: RankData, specs: readonly CandidateSpec[], 
   }
   const settings = resolveSettings(options, data.chi, candidates.length);
   let reference: Environment | null = null;
-  if (settings.tables.mode === 'shared') {
-    // the reference: the given one, else the first candidate that can be read (of the first ten)
+  if (settings.tables.mode === 'shared' && context.reference) {
+    // an explicit reference (a screen's base) is a setting of the run, never one of the candidates
     const shellSettings = { absorber: settings.absorber, edge: settings.edge, radius: settings.radius, tolerance: settings.tolerance };
     const cache = new FrameCache((p) => resolvePath(context.cwd, p));
-    const tries = context.reference ? [context.reference] : candidates.slice(0, 10).map((c) => c.spec);
-    let firstError: unknown = null;
-    for (const spec of tries) {
-      try {
-        reference = componentsOf(spec, shellSettings, cache)[0].pathSet.environment;
-        break;
-      } catch (error) {
-        if (!(error instanceof InputError)) throw error;
-        firstError ??= error;
-      }
-    }
-    if (!reference) throw firstError;
+    reference = componentsOf(context.reference, shellSettings, cache)[0].pathSet.environment;
+  }
+  if (settings.tables.mode === 'shared') {
+    settings.tables.environment = reference ? { reference: hashOf(reference).slice(0, 16) } : 'candidate';
   }
   const measured = { k: data.chi.k, chi: data.chi.chi, sha256: data.sha256 };
   const settingsHash = settingsHashOf(settings, measured, reference, SHELLRANK_VERSION);

@@ -103,7 +103,7 @@ export function addRankOptions(command: Command): Command {
     .option('--e0-range <min:max>', 'pre-screen search range of the E0 shift, eV', '-15:15')
     .option('--starts <n>', 'starts of each refinement (more than 1 adds seeded random starts)', '1')
     .option('--provider <name>', 'scattering provider (firstPrinciples, or parametric: approximate, for tests)', DEFAULT_PROVIDER)
-    .option('--tables <policy>', "scattering tables: 'own' (each candidate's environment and exact distances), 'shared' (one reference environment, distances rounded), or 'auto' (own up to 20 candidates)", 'auto')
+    .option('--tables <policy>', "scattering tables: 'own' (each candidate's environment and exact distances), 'shared' (each candidate's environment and the table distances rounded, so similar candidates share tables), or 'auto' (= own)", 'auto')
     .option('--table-step <angstrom>', 'distance rounding of shared tables, Å (default 0.02)')
     .option('--multiple-scattering', 'add double-scattering and 4-leg multiple-scattering paths to the refinement (plane waves, exact curved waves for collinear paths; K and L1 edges; unchanged structures only; the pre-screen stays single scattering)')
     .option('--ms-importance <fraction>', 'keep multiple-scattering paths at least this fraction of the strongest shell (with --multiple-scattering)', '0.04')
