@@ -42,8 +42,15 @@ export function rowCells(e: RankingEntry): string[] {
     fmt(s?.aic), fmt(s?.bic), s ? String(s.nVaried) : '-', s ? fmt(s.nIndependent, 3) : '-', e.stage];
 }
 
+/**
+ * One CSV cell. A text cell starting with = + - @, a tab or a carriage return gets a leading
+ * apostrophe so that a spreadsheet shows it instead of running it as a formula (OWASP, "CSV
+ * Injection"); numbers and the "-" of a missing value are left alone.
+ */
 function csvCell(text: string): string {
-  return /[",\n]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
+  const number = /^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$/.test(text);
+  const cell = /^[=+\-@\t\r]/.test(text) && !number && text !== '-' ? `'${text}` : text;
+  return /[",\n]/.test(cell) ? `"${cell.replace(/"/g, '""')}"` : cell;
 }
 
 function mdCell(text: string): string {
