@@ -19,7 +19,9 @@
  * (Wyckoff, Crystal Structures vols. 1-3 (1963-65) and the structure papers named per entry); a
  * wrong recalled constant shifts "crystal R" by about the same fraction.
  *
- * Run: npx tsx bench/accuracy.ts [--label before] [--samples Cu,Fe] [--settings JSON] [--no-cache]
+ * Run: npx tsx bench/accuracy.ts [--label before] [--samples Cu,Fe] [--settings JSON] [--reduce JSON]
+ *        [--no-cache]
+ * --settings overrides FirstPrinciplesSettings, --reduce the reduction (ReductionOptions).
  * Writes bench/accuracy/<label>.json and bench/accuracy/<label>.md (atomic writes) and prints the
  * Markdown table. Tables are cached on disk (the provider's cache) unless --no-cache.
  */
@@ -36,6 +38,8 @@ import { readScan } from '../src/read/spectrum/index';
 import { readStructureText } from '../src/read/structure/index';
 import { findE0 } from '../src/reduce/edge';
 import { reduceScan } from '../src/reduce/index';
+import type { ReductionOptions } from '../src/reduce/reduce';
+import { DEFAULT_BACKGROUND } from '../src/reduce/background';
 import { firstPrinciplesProvider } from '../src/scatter/provider-first-principles';
 import type { Structure } from '../src/structure/structure';
 
@@ -47,6 +51,8 @@ const option = (name: string): string | undefined => {
 const label = option('--label') ?? 'current';
 const settings = JSON.parse(option('--settings') ?? '{}');
 const wanted = option('--samples')?.split(',');
+/** Reduction options (ReductionOptions JSON, e.g. '{"background":{"cutoffR":0.8}}'); default: the default reduction. */
+const reduceOptions: ReductionOptions | null = option('--reduce') ? JSON.parse(option('--reduce')!) : null;
 const K_RANGE: [number, number] = [3, 12];
 const FIRST_SHELL_SPREAD = 0.15;
 const TAIL_MARGIN = 0.5;
@@ -146,13 +152,13 @@ const LEFT_OUT = [
 
 const round = (x: number, digits: number) => Number(x.toFixed(digits));
 
-function measure(c: Compound, provider: ReturnType<typeof firstPrinciplesProvider>) {
+function measure(c: Compound, provider: ReturnType<typeof firstPrinciplesProvider>, reduceOptions: ReductionOptions | null) {
   const started = performance.now();
   const base = { compound: c.name, file: c.file, structure: c.source };
   let chi;
   let reduction = 'default';
   try {
-    chi = loadChiOrReduce(join(DATA, c.file)).chi;
+    chi = reduceOptions ? reduceScan(readScan(join(DATA, c.file)), reduceOptions).chi : loadChiOrReduce(join(DATA, c.file)).chi;
   } catch (e) {
     // A scan that starts less than 20 eV below the tabulated edge is refused by the default
     // reduction; here it is reduced with E0 at the derivative maximum and the pre-edge line over
@@ -162,7 +168,7 @@ function measure(c: Compound, provider: ReturnType<typeof firstPrinciplesProvide
     const e0 = findE0(scan.energy, scan.mu).value;
     const preEdge: [number, number] = [round(scan.energy[0] - e0 + 1, 1), -8];
     try {
-      chi = reduceScan(scan, { e0, normalisation: { preEdge } }).chi;
+      chi = reduceScan(scan, { ...reduceOptions, e0, normalisation: { ...reduceOptions?.normalisation, preEdge } }).chi;
     } catch (again) {
       return { ...base, refused: (again as Error).message.replaceAll(DATA, 'test/data/') };
     }
@@ -221,26 +227,43 @@ function measure(c: Compound, provider: ReturnType<typeof firstPrinciplesProvide
 }
 
 const provider = firstPrinciplesProvider({ cache: !args.includes('--no-cache'), settings });
+/**
+ * Sensitivity to the background: the same fit on reductions with the background cutoff R_bkg
+ * moved from its value (default 1.0 Å) by -0.1 and +0.1 Å. A first shell whose fitted distance
+ * moves by more than a few 0.001 Å here is limited by the background removal, not by the
+ * scattering functions.
+ */
+const CUTOFF_STEPS = [-0.1, 0.1];
+const baseCutoff = reduceOptions?.background?.cutoffR ?? DEFAULT_BACKGROUND.cutoffR;
 const rows = COMPOUNDS.filter((c) => !wanted || wanted.includes(c.name)).map((c) => {
-  const row = measure(c, provider);
-  console.error(JSON.stringify(row));
-  return row;
+  const row = measure(c, provider, reduceOptions);
+  const dRAtCutoff: Record<string, number | null> = {};
+  if (!('refused' in row)) {
+    for (const step of CUTOFF_STEPS) {
+      const cutoffR = round(baseCutoff + step, 3);
+      const other = measure(c, provider, { ...reduceOptions, background: { ...reduceOptions?.background, cutoffR } });
+      dRAtCutoff[cutoffR.toFixed(2)] = 'dR' in other ? other.dR! : null;
+    }
+  }
+  const full = { ...row, dRAtCutoff };
+  console.error(JSON.stringify(full));
+  return full;
 });
 
 const cell = (x: unknown) => (x === null || x === undefined ? '—' : String(x));
 const markdown = [
   `First-shell fits (${label}): k ${K_RANGE.join('-')} 1/Å, k^2, R space, S0^2 free; R = occupancy-weighted mean first-shell distance, Å.`,
   '',
-  '| spectrum | first shell (crystal) | R crystal | R fit | dR | S0^2 | e0 (eV) | msrd (Å^2) | R-factor | corr(e0, dR) |',
-  '|---|---|---|---|---|---|---|---|---|---|',
+  `| spectrum | first shell (crystal) | R crystal | R fit | dR | S0^2 | e0 (eV) | msrd (Å^2) | R-factor | corr(e0, dR) | dR at R_bkg ${CUTOFF_STEPS.map((d) => (baseCutoff + d).toFixed(1)).join(' / ')} |`,
+  '|---|---|---|---|---|---|---|---|---|---|---|',
   ...rows.map((r) => 'refused' in r
-    ? `| ${r.compound} | refused: ${r.refused!.replace(/\|/g, '/')} |||||||||`
-    : `| ${r.compound} | ${r.firstShell} | ${r.rCrystal.toFixed(3)} | ${r.rFit.toFixed(3)} | ${r.dR >= 0 ? '+' : ''}${r.dR.toFixed(3)} | ${r.amp.toFixed(2)} | ${r.e0.toFixed(1)} | ${r.msrd.toFixed(4)} | ${r.rFactor.toFixed(3)} | ${cell(r.e0DrCorrelation)} |`),
+    ? `| ${r.compound} | refused: ${r.refused!.replace(/\|/g, '/')} ||||||||||`
+    : `| ${r.compound} | ${r.firstShell} | ${r.rCrystal.toFixed(3)} | ${r.rFit.toFixed(3)} | ${r.dR >= 0 ? '+' : ''}${r.dR.toFixed(3)} | ${r.amp.toFixed(2)} | ${r.e0.toFixed(1)} | ${r.msrd.toFixed(4)} | ${r.rFactor.toFixed(3)} | ${cell(r.e0DrCorrelation)} | ${Object.values(r.dRAtCutoff).map((x) => (x === null ? '—' : `${x >= 0 ? '+' : ''}${x.toFixed(3)}`)).join(' / ')} |`),
   '',
   ...rows.filter((r) => 'reduction' in r && r.reduction !== 'default').map((r) => `${r.compound}: ${(r as { reduction: string }).reduction}.`),
   `Not measured: ${LEFT_OUT.join('; ')}.`,
 ].join('\n');
 mkdirSync(OUT, { recursive: true });
-writeFileAtomic(join(OUT, `${label}.json`), JSON.stringify({ benchmark: 'accuracy', label, settings, kRange: K_RANGE, leftOut: LEFT_OUT, rows }, null, 1) + '\n');
+writeFileAtomic(join(OUT, `${label}.json`), JSON.stringify({ benchmark: 'accuracy', label, settings, reduce: reduceOptions, kRange: K_RANGE, leftOut: LEFT_OUT, rows }, null, 1) + '\n');
 writeFileAtomic(join(OUT, `${label}.md`), markdown + '\n');
 console.log(markdown);
