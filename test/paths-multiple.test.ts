@@ -202,10 +202,11 @@ describe('exact curved-wave factor of collinear paths (src/scatter/collinear-pat
   });
 });
 
-describe('ranking settings: multiple scattering is opt-in', () => {
+describe('ranking settings: multiple scattering on by default', () => {
   const chi = { k: Float64Array.from([0, 16]) } as unknown as Chi; // only the k range is read
-  it('leaves the settings (and so their hash and every result) of a default run as they were', () => {
-    expect('multipleScattering' in resolveSettings({ absorber: { element: 'Cu' } }, chi, 3)).toBe(false);
+  it('records the default path settings, and none with single scattering asked for', () => {
+    expect(resolveSettings({ absorber: { element: 'Cu' } }, chi, 3).multipleScattering).toEqual({ minImportance: 0.04, fourLeg: true });
+    expect('multipleScattering' in resolveSettings({ absorber: { element: 'Cu' }, multipleScattering: false }, chi, 3)).toBe(false);
   });
   it('records the path settings when asked for', () => {
     expect(resolveSettings({ absorber: { element: 'Cu' }, multipleScattering: { minImportance: 0.1 } }, chi, 3).multipleScattering)

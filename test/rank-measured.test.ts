@@ -19,9 +19,9 @@
  * rank 1, the second 'not distinguishable from the best'. Wider windows let hcp's extra shells
  * (2 at 4.17 Å, 12 at 4.89 Å) imitate the multiple-scattering signal of fcc Cu (triangle paths
  * of half length 3.83 Å, the focused path at 5.11 Å) and hcp would win, wrongly: ranking fcc
- * strictly above hcp needs multiple-scattering paths: with `--multiple-scattering` (plane-wave
- * double-scattering and 4-leg paths, src/scatter/multiple-scattering.ts) and R to 5.5 Å, fcc ranks
- * first and hcp second (tested below).
+ * strictly above hcp needs multiple-scattering paths: with them (plane-wave double-scattering and
+ * 4-leg paths, src/scatter/multiple-scattering.ts, on by default) and R to 5.5 Å, fcc ranks first
+ * and hcp second; with `--single-scattering` hcp ranks first (both tested below).
  */
 import { describe, it, expect, beforeAll } from 'vitest';
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
@@ -80,18 +80,18 @@ describe('ranking crystal structures against measured spectra', () => {
     expect([r['Cu-fcc'].verdict, r['Cu-hcp'].verdict].sort()).toEqual(['best', 'not distinguishable from the best']);
   }, 600_000);
 
-  it('Cu foil, window to 5.5 Å with --multiple-scattering: fcc first, hcp of the same nearest-neighbour distance not best', async () => {
+  it('Cu foil, window to 5.5 Å (multiple scattering by default): fcc first, hcp of the same nearest-neighbour distance not best', async () => {
     // fcc's multiple-scattering signal (first-shell triangles at 1.5 d = 3.83 Å, collinear
     // focusing through the first shell at 2 d = 5.11 Å) is what tells it from hcp beyond 4.17 Å;
     // without these paths the same window puts hcp first (the shells-only model of fcc lacks it)
     const d = 3.6149 / Math.SQRT2;
     const structures = { 'Cu-fcc': fcc('Cu', d), 'Cu-hcp': hcp('Cu', d) };
-    const r = await rank(dir, 'cu_metal_rt.xdi', 'Cu', structures, ['--r', '1.2:5.5', '--multiple-scattering']);
+    const r = await rank(dir, 'cu_metal_rt.xdi', 'Cu', structures, ['--r', '1.2:5.5']);
     expect(r['Cu-fcc']).toMatchObject({ rank: 1, verdict: 'best' });
     expect(r['Cu-hcp'].rank).toBe(2);
     expect(r['Cu-hcp'].verdict).not.toBe('best');
     // the same window, single scattering only: hcp wins (why the paths are needed)
-    const shellsOnly = await rank(dir, 'cu_metal_rt.xdi', 'Cu', structures, ['--r', '1.2:5.5']);
+    const shellsOnly = await rank(dir, 'cu_metal_rt.xdi', 'Cu', structures, ['--r', '1.2:5.5', '--single-scattering']);
     expect(shellsOnly['Cu-hcp'].rank).toBe(1);
   }, 600_000);
 

@@ -190,7 +190,7 @@ function curvesByShellOrGroup(ids: readonly string[], groups: readonly string[],
 }
 
 /** The multiple-scattering paths and tables of each component (empty lists when not asked for). */
-function multipleOf(ctx: EvaluationContext, spec: CandidateSpec, components: ComponentShells[]): { paths: ScatteringPath[]; tables: ScatteringTable[]; found: number }[] {
+function multipleOf(ctx: EvaluationContext, spec: CandidateSpec, components: ComponentShells[]): { paths: ScatteringPath[]; tables: ScatteringTable[]; found: number; skipped?: string }[] {
   const s = ctx.job.settings;
   const ms = s.multipleScattering;
   if (!ms) return components.map(() => ({ paths: [], tables: [], found: 0 }));
@@ -221,8 +221,13 @@ function evaluateRefine(ctx: EvaluationContext, components: ComponentShells[], s
   if (s.multipleScattering) {
     const kept = multiple.reduce((a, m) => a + m.paths.length, 0);
     const found = multiple.reduce((a, m) => a + m.found, 0);
-    recipe.description.push(`${kept} of ${found} multiple-scattering path groups kept (plane waves, exact curved waves for collinear paths; at least ${s.multipleScattering.minImportance} of the strongest shell), `
-      + 'n fixed at their degeneracies, R = L/2 scaled by the expansion factor, msrd shared in bands (labels ms:..., collinear paths with their shell)');
+    const skipped = [...new Set(multiple.map((m) => m.skipped).filter((x) => x !== undefined))];
+    recipe.description.push(skipped.length > 0 && kept === 0
+      ? `single scattering only: ${skipped.join('; ')}`
+      : `${kept} of ${found} multiple-scattering path groups kept (plane waves, exact curved waves for collinear paths; at least ${s.multipleScattering.minImportance} of the strongest shell), `
+        + 'n fixed at their degeneracies, path length L = sum of the legs of the structure, R = L/2 scaled by the same expansion factor as the shells, '
+        + 'msrd free and shared in bands of R among multiple-scattering paths (labels ms:...), a collinear path sharing the msrd of the shell of the atom it turns at'
+        + (skipped.length > 0 ? `; single scattering for some components: ${skipped.join('; ')}` : ''));
   }
   const lookups = components.map((c) => ctx.tables.forCandidate(c.pathSet.absorber, c.pathSet.edge, c.pathSet.environment));
   const tables = recipe.paths.map((p, i) => msTable.get(p) ?? lookups[recipe.componentOf[i]](p.scatterer, p.r));

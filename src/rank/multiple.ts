@@ -1,7 +1,10 @@
 /**
- * Opt-in multiple-scattering paths for the refinement stage of a ranking (`--multiple-scattering`).
- * The pre-screen stays single scattering (so with many candidates the choice of the refined top N
- * does not see these paths).
+ * Multiple-scattering paths for the refinement stage of a ranking, on by default whenever the
+ * model range (R max + margin) reaches them; `--single-scattering` turns them off. The pre-screen
+ * stays single scattering (so with many candidates the choice of the refined top N does not see
+ * these paths). Components without their own geometry (shell changes: substitute, remove,
+ * strain), providers without multiple-scattering tables and L2/L3 edges get single scattering
+ * only, and the recipe says so.
  *
  * For every component of a candidate the double-scattering and 4-leg paths of ../paths/multiple
  * are enumerated on the candidate's own clusters, their tables computed by the provider's
@@ -33,7 +36,7 @@ import { tableGrid } from '../model/tables';
 import type { CandidateSpec, FrameCache, ShellSettings } from './candidates';
 import type { Environment } from './tables';
 
-/** Settings of the opt-in multiple-scattering paths (recorded in the ranking settings). */
+/** Settings of the multiple-scattering paths (recorded in the ranking settings). */
 export interface MultipleScatteringSettings {
   /** Keep paths at least this fraction of the strongest shell's importance (default 0.04). */
   minImportance: number;
@@ -43,13 +46,15 @@ export interface MultipleScatteringSettings {
 
 export const DEFAULT_MULTIPLE_SCATTERING: MultipleScatteringSettings = { minImportance: 0.04, fourLeg: true };
 
-/** Absorber clusters of every component of a candidate (same order as componentsOf). */
-export function clustersOfCandidate(spec: CandidateSpec, settings: ShellSettings, cache: FrameCache): Cluster[][] {
+/**
+ * Absorber clusters of every component of a candidate (same order as componentsOf); null for a
+ * component whose shells were changed (substitute, remove, strain), which has no geometry of its
+ * own to build paths from.
+ */
+export function clustersOfCandidate(spec: CandidateSpec, settings: ShellSettings, cache: FrameCache): (Cluster[] | null)[] {
   if (spec.kind === 'structure') {
     const changes = spec.changes ?? [];
-    if (changes.some((c) => c.kind !== 'site')) {
-      throw new InputError(`multiple-scattering paths need the structure's own geometry; ${spec.name} has shell changes (substitute, remove, strain)`, { key: '--multiple-scattering' });
-    }
+    if (changes.some((c) => c.kind !== 'site')) return [null];
     const site = changes.find((c) => c.kind === 'site') as { kind: 'site'; index: number } | undefined;
     const absorber: AbsorberSelector = site ? { index: site.index } : settings.absorber;
     return [buildClusters(cache.get(spec.source), { absorber, radius: settings.radius })];
@@ -87,14 +92,19 @@ function importance(table: ScatteringTable, n: number, r: number, kRange: [numbe
  */
 export function multipleScatteringForComponent(
   provider: ScatteringProvider,
-  clusters: readonly Cluster[],
+  clusters: readonly Cluster[] | null,
   shells: { paths: readonly ScatteringPath[]; tables: readonly ScatteringTable[] },
   context: { absorber: string; edge: EdgeName; environment: Environment; maxHalfLength: number; kRange: [number, number]; kMax: number },
   settings: MultipleScatteringSettings,
-): { paths: ScatteringPath[]; tables: ScatteringTable[]; found: number } {
-  if (!provider.computeMultiple) throw new InputError(`the ${provider.name} provider cannot compute multiple-scattering paths`, { key: '--multiple-scattering' });
-  if (shells.paths.length === 0) return { paths: [], tables: [], found: 0 };
-  const all = multiplePaths(clusters, { maxHalfLength: context.maxHalfLength, fourLeg: settings.fourLeg });
+): { paths: ScatteringPath[]; tables: ScatteringTable[]; found: number; skipped?: string } {
+  const none = (skipped: string) => ({ paths: [], tables: [], found: 0, skipped });
+  if (!provider.computeMultiple) return none(`the ${provider.name} provider has no multiple-scattering tables`);
+  if (context.edge !== 'K' && context.edge !== 'L1') return none(`multiple-scattering amplitudes are computed for K and L1 edges only, not ${context.edge}`);
+  if (clusters === null) return none('changed shells have no geometry of their own');
+  if (shells.paths.length === 0 || clusters.length === 0) return { paths: [], tables: [], found: 0 };
+  // a user-given cluster radius may be shorter than the model range: no path leaves the cluster
+  const maxHalfLength = Math.min(context.maxHalfLength, ...clusters.map((c) => c.radius));
+  const all = multiplePaths(clusters, { maxHalfLength, fourLeg: settings.fourLeg });
   if (all.length === 0) return { paths: [], tables: [], found: 0 };
   const first = shells.paths[0];
   const tables = provider.computeMultiple(
@@ -154,6 +164,7 @@ export function listPaths(
 ): { paths: ListedPath[]; found: number } {
   const { maxLegs, maxHalfLength, minImportance, kRange } = options;
   if (!Number.isInteger(maxLegs) || maxLegs < 2 || maxLegs > 4) throw new InputError(`the number of legs must be 2, 3 or 4 (longer paths are not enumerated), got ${maxLegs}`, { key: '--max-legs' });
+  if (maxLegs > 2 && shells.edge !== 'K' && shells.edge !== 'L1') throw new InputError(`multiple-scattering paths are computed for K and L1 edges only, not ${shells.edge} (use --max-legs 2)`, { key: '--max-legs' });
   if (maxLegs > 2 && !provider.computeMultiple) throw new InputError(`the ${provider.name} provider cannot compute multiple-scattering paths (use --max-legs 2)`, { key: '--provider' });
   const kMax = kRange[1] + 1;
   const single = shells.paths.filter((p) => p.r <= maxHalfLength + 1e-9);

@@ -70,7 +70,7 @@ export interface RankCliOptions {
   csv?: boolean;
   limit: string;
   quiet?: boolean;
-  multipleScattering?: boolean;
+  singleScattering?: boolean;
   msImportance?: string;
 }
 
@@ -105,8 +105,8 @@ export function addRankOptions(command: Command): Command {
     .option('--provider <name>', 'scattering provider (firstPrinciples, or parametric: approximate, for tests)', DEFAULT_PROVIDER)
     .option('--tables <policy>', "scattering tables: 'own' (each candidate's environment and exact distances), 'shared' (each candidate's environment and the table distances rounded, so similar candidates share tables), or 'auto' (= own)", 'auto')
     .option('--table-step <angstrom>', 'distance rounding of shared tables, Å (default 0.02)')
-    .option('--multiple-scattering', 'add double-scattering and 4-leg multiple-scattering paths to the refinement (plane waves, exact curved waves for collinear paths; K and L1 edges; unchanged structures only; the pre-screen stays single scattering)')
-    .option('--ms-importance <fraction>', 'keep multiple-scattering paths at least this fraction of the strongest shell (with --multiple-scattering)', '0.04')
+    .option('--single-scattering', 'leave out the multiple-scattering paths (3- and 4-leg) that the refinement adds by default when the model range reaches them')
+    .option('--ms-importance <fraction>', 'keep multiple-scattering paths at least this fraction of the strongest shell', '0.04')
     .option('--no-cache', 'recompute scattering functions instead of reading the on-disk cache')
     .option('--refine-top <n>', 'fully refine the best N of the pre-screen', '20')
     .option('--alpha <p>', "significance level of 'worse'", '0.05')
@@ -164,7 +164,7 @@ export function parseRankOptions(raw: RankCliOptions, io: CliIo): { options: Ran
   if (raw.k !== undefined) options.kRange = parseRange('--k', raw.k);
   if (raw.distances !== undefined) options.distances = raw.distances as 'expand' | 'fixed';
   if (raw.maxFree !== undefined) options.maxFree = parseInteger('--max-free', raw.maxFree, 1);
-  if (raw.multipleScattering) options.multipleScattering = { minImportance: parseNumber('--ms-importance', raw.msImportance ?? '0.04', { min: 0 }) };
+  options.multipleScattering = raw.singleScattering ? false : { minImportance: parseNumber('--ms-importance', raw.msImportance ?? '0.04', { min: 0 }) };
   if (raw.tableStep !== undefined) options.tableStep = parseNumber('--table-step', raw.tableStep, { min: 0 });
   const ranking = {
     refineTop: parseInteger('--refine-top', raw.refineTop, 0),
