@@ -25,6 +25,10 @@ import { pathFactor, planeWaveScattering } from '../src/scatter/multiple-scatter
 import { sphericalBesselJ, sphericalBesselY } from '../src/scatter/spherical-bessel';
 import { buildClusters } from '../src/structure/cluster';
 import { resolveSettings } from '../src/rank/setup';
+import { DEFAULT_MULTIPLE_SCATTERING, multipleScatteringForComponent } from '../src/rank/multiple';
+import { groupShells } from '../src/paths/pathset';
+import { defaultProviders } from '../src/scatter/registry';
+import type { EdgeName } from '../src/elements/index';
 import type { Chi } from '../src/reduce/index';
 import { fractionalToCartesian, latticeFromParameters, makeStructure } from '../src/structure/structure';
 
@@ -211,5 +215,24 @@ describe('ranking settings: multiple scattering on by default', () => {
   it('records the path settings when asked for', () => {
     expect(resolveSettings({ absorber: { element: 'Cu' }, multipleScattering: { minImportance: 0.1 } }, chi, 3).multipleScattering)
       .toEqual({ minImportance: 0.1, fourLeg: true });
+  });
+});
+
+describe('multiple scattering by default: the cases that fall back to single scattering', () => {
+  const clusters = buildClusters(fccCu(), { absorber: { element: 'Cu' }, radius: 5.5 });
+  const shells = groupShells(clusters);
+  const providers = defaultProviders({ cache: false });
+  const context = (edge: EdgeName) => ({ absorber: 'Cu', edge, environment: { absorber: [], scatterers: {} }, maxHalfLength: 5.2, kRange: [3, 14] as [number, number], kMax: 15 });
+  const tablesOf = shells.map(() => ({}) as never);
+  it('says why instead of failing: a provider without multiple-scattering tables, an L3 edge, changed shells', () => {
+    // the parametric provider has no computeMultiple (src/scatter/parametric.ts)
+    const parametric = multipleScatteringForComponent(providers.get('parametric'), clusters, { paths: shells, tables: tablesOf }, context('K'), DEFAULT_MULTIPLE_SCATTERING);
+    expect(parametric.paths).toEqual([]);
+    expect(parametric.skipped).toMatch(/parametric provider/);
+    // the polarisation average of src/scatter/multiple-scattering.ts is that of a p final state (K, L1)
+    const l3 = multipleScatteringForComponent(providers.get('firstPrinciples'), clusters, { paths: shells, tables: tablesOf }, context('L3'), DEFAULT_MULTIPLE_SCATTERING);
+    expect(l3.skipped).toMatch(/K and L1 edges only, not L3/);
+    const changed = multipleScatteringForComponent(providers.get('firstPrinciples'), null, { paths: shells, tables: tablesOf }, context('K'), DEFAULT_MULTIPLE_SCATTERING);
+    expect(changed.skipped).toMatch(/changed shells/);
   });
 });
