@@ -21,7 +21,8 @@
  *
  * Run: npx tsx bench/accuracy.ts [--label before] [--samples Cu,Fe] [--settings JSON] [--reduce JSON]
  *        [--no-cache]
- * --settings overrides FirstPrinciplesSettings, --reduce the reduction (ReductionOptions).
+ * --settings overrides FirstPrinciplesSettings, --reduce the reduction (ReductionOptions), --r-low
+ * the lowest start of the R range (default 1.0 Å).
  * Writes bench/accuracy/<label>.json and bench/accuracy/<label>.md (atomic writes) and prints the
  * Markdown table. Tables are cached on disk (the provider's cache) unless --no-cache.
  */
@@ -54,6 +55,8 @@ const wanted = option('--samples')?.split(',');
 /** Reduction options (ReductionOptions JSON, e.g. '{"background":{"cutoffR":0.8}}'); default: the default reduction. */
 const reduceOptions: ReductionOptions | null = option('--reduce') ? JSON.parse(option('--reduce')!) : null;
 const K_RANGE: [number, number] = [3, 12];
+/** Lowest start of the fit's R range, Å (default 1.0, the background cutoff). */
+const R_LOW = Number(option('--r-low') ?? 1.0);
 const FIRST_SHELL_SPREAD = 0.15;
 const TAIL_MARGIN = 0.5;
 
@@ -177,7 +180,7 @@ function measure(c: Compound, provider: ReturnType<typeof firstPrinciplesProvide
   const edge = chi.edge ?? 'K';
   const set = shellsOfStructure(c.structure(), { absorber: { element: c.absorber }, radius: 6, edge });
   const r1 = set.paths[0].r;
-  const rRange: [number, number] = [round(Math.max(1.0, r1 - 0.9), 2), round(r1 + 0.25, 2)];
+  const rRange: [number, number] = [round(Math.max(R_LOW, r1 - 0.9), 2), round(r1 + 0.25, 2)];
   const first = set.paths.filter((p) => p.r <= r1 + FIRST_SHELL_SPREAD);
   const tails = set.paths.filter((p) => p.r > r1 + FIRST_SHELL_SPREAD && p.r <= rRange[1] + TAIL_MARGIN);
   const nFirst = first.reduce((s, p) => s + p.degeneracy, 0);
