@@ -11,6 +11,9 @@ describe('shellrank demo (invented scenario, synthetic data)', () => {
     const run = cliProcess(['demo', '--out', out]);
     expect(run.code, run.stderr).toBe(0);
     expect(run.stdout).toContain(`report: ${join(out, 'report.html')}`);
+    // the printed commands can be pasted into a shell: '#' would start a comment unquoted
+    expect(run.stdout).toContain("--absorber '#0'");
+    expect(run.stdout).not.toMatch(/ #0\b/);
     expect(existsSync(join(out, 'report.html'))).toBe(true);
     expect(existsSync(join(out, 'ranking.md'))).toBe(true);
     expect(existsSync(join(out, 'plots', 'fit-k.png'))).toBe(true);
@@ -22,5 +25,5 @@ describe('shellrank demo (invented scenario, synthetic data)', () => {
     // the tetrahedral site, the other site hypothesis, is not supported by the data
     const tetrahedral = ranking.candidates.find((c: { name: string }) => c.name.endsWith('ni-spinel-tetrahedral.xyz'));
     expect(['worse at 95 %', 'rejected']).toContain(tetrahedral.verdict);
-  });
+  }, 300_000);
 });

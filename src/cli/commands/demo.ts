@@ -10,6 +10,7 @@ import { join, relative, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { ComputationError } from '../../core/errors';
 import type { CliIo } from '../io';
+import { shellCommand } from '../shell-quote';
 
 /** Folder of the bundled demo structures and data. */
 export const DEMO_STRUCTURES = fileURLToPath(new URL('../../../structures/', import.meta.url));
@@ -44,7 +45,7 @@ export function registerDemo(program: Command, io: CliIo): void {
       io.stdout('shellrank demo — an invented scenario: where does Ni sit in a Ni-doped MgAl2O4 spinel support?\n');
       io.stdout(`The "measured" spectrum ${data} is SYNTHETIC (scripts/make-demo-spectrum.ts).\n\n`);
       for (const step of steps) {
-        io.stdout(`$ shellrank ${step.args.join(' ')}\n`);
+        io.stdout(`$ ${shellCommand(['shellrank', ...step.args])}\n`);
         const code = await runCli(step.args, { ...io, stdout: (t) => io.stdout(t), stderr: (t) => io.stderr(t) });
         if (code !== 0) throw new ComputationError(`the demo step '${step.title}' failed (exit ${code})`);
         io.stdout('\n');
