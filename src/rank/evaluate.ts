@@ -19,7 +19,7 @@ import type { ScatteringPath } from '../paths/pathset';
 import { defaultProviders } from '../scatter/registry';
 import type { AbsorberSelector } from '../structure/cluster';
 import type { EdgeName } from '../elements/index';
-import { candidateKey, componentsOf, FrameCache, type Candidate, type CandidateSpec, type ComponentShells } from './candidates';
+import { candidateKey, componentsOf, FrameCache, type Candidate, type CandidateSpec, type ComponentShells, type FrameRef } from './candidates';
 import { prescreen } from './prescreen';
 import { rankingRecipe, type RankingRecipeOptions } from './recipe';
 import { TableSource, type Environment, type TableOrigin, type TablePolicy } from './tables';
@@ -67,8 +67,51 @@ export interface RankJob {
   cacheDir?: string;
 }
 
+/** A value as the summaries write it: fixed values carry a null error. */
+export interface SummaryValue { value: number; error: number | null; state?: string }
+
+/**
+ * One shell of a fit summary, the same shape in both stages (the report reads it): pre-screened
+ * shells are written with their structure distance, degeneracy and model msrd, all fixed.
+ */
+export interface ShellSummary {
+  id: string;
+  species: string;
+  /** Index of the candidate component (mixture part) the shell belongs to. */
+  component: number;
+  /** msrd group of the refinement recipe (refinement only). */
+  group?: string;
+  /** Distance in the structure, Å. */
+  r0: number;
+  /** Neighbours in the structure (the shell's degeneracy). */
+  degeneracy: number;
+  n: number | SummaryValue;
+  r: SummaryValue;
+  msrd: SummaryValue;
+  c3?: SummaryValue;
+  c4?: SummaryValue;
+}
+
 /** The fit part of a record: refinement or pre-screen summary (plain JSON). */
-export type FitSummary = Record<string, unknown>;
+export interface FitSummary {
+  stage: Stage;
+  stats: FitStats;
+  params: Record<string, unknown>;
+  shells: ShellSummary[];
+  [key: string]: unknown;
+}
+
+/** A structure file as the records name it: with `#frame` for one frame of a multi-frame file. */
+function sourceName(ref: FrameRef): string {
+  return (ref.frames ?? 1) > 1 ? `${ref.file}#${ref.frame}` : ref.file;
+}
+
+/** Every structure file of a candidate, in order, each once (all parts of a mixture). */
+export function filesOf(spec: CandidateSpec): string[] {
+  if (spec.kind === 'structure') return [sourceName(spec.source)];
+  if (spec.kind === 'ensemble') return [...new Set(spec.sources.map((s) => s.file))];
+  return [...new Set(spec.parts.flatMap(filesOf))];
+}
 
 /** One line of a stream file. */
 export interface CandidateRecord {
@@ -87,6 +130,10 @@ export interface CandidateRecord {
   signature: ResolvedShell[] | null;
   /** Keys of candidates nested in this one (mixture parts). */
   contains?: string[];
+  /** Every structure file of the candidate (all parts of a mixture). */
+  files?: string[];
+  /** A mixture's parts, in the order of the shells' `component` index. */
+  components?: { name: string; files: string[] }[];
   fit: FitSummary | null;
   /** How the scattering tables of each component were made. */
   tables?: TableOrigin[];
@@ -157,6 +204,10 @@ function evaluatePrescreen(ctx: EvaluationContext, components: ComponentShells[]
   const result = prescreen(ctx.window, parts.filter((p) => p.paths.length > 0), {
     amp, ampBounds: s.recipe.ampBounds ?? [0.5, 1.5], e0Range: s.prescreen.e0Range,
   });
+  const shells: ShellSummary[] = parts.flatMap((p, component) => p.paths.map((path, i) => ({
+    id: path.id, species: path.scatterer, component, r0: path.r, degeneracy: path.degeneracy,
+    n: path.degeneracy, r: { value: path.r, error: null, state: 'fixed' }, msrd: { value: round(p.msrd[i]), error: null, state: 'fixed' },
+  })));
   const params: Record<string, { value: number; error: number; state: string }> = {
     amp: { value: round(result.amp.value), error: round(result.amp.error), state: amp === 'free' ? 'free' : 'fixed' },
     e0: { value: round(result.e0.value), error: round(result.e0.error), state: 'free' },
@@ -167,7 +218,7 @@ function evaluatePrescreen(ctx: EvaluationContext, components: ComponentShells[]
     status: { converged: result.converged, message: result.message, evaluations: result.evaluations },
     stats: result.stats,
     params,
-    shells: parts.reduce((n, p) => n + p.paths.length, 0),
+    shells,
     msrd: s.prescreen.disorder,
     warnings: result.warnings,
   };
@@ -243,7 +294,8 @@ function evaluateRefine(ctx: EvaluationContext, components: ComponentShells[], s
     stats: result.stats,
     params: result.params,
     shells: result.shells.map((sh, i) => ({
-      id: sh.id, species: sh.species, component: recipe.componentOf[i], group: recipe.groupOf[i], r0: sh.r0, n: sh.n, r: sh.r, msrd: sh.msrd,
+      id: sh.id, species: sh.species, component: recipe.componentOf[i], group: recipe.groupOf[i], r0: sh.r0, degeneracy: recipe.paths[i].degeneracy,
+      n: sh.n, r: sh.r, msrd: sh.msrd,
     })),
     correlations: result.correlations,
     warnings: result.warnings,
@@ -274,7 +326,11 @@ export function evaluateCandidate(ctx: EvaluationContext, candidate: Candidate, 
     settingsHash: ctx.job.settingsHash, ok: false, stats: null, signature: null, fit: null, ms: 0,
   };
   if (source.frame !== undefined) base.frame = source.frame;
-  if (spec.kind === 'mixture') base.contains = spec.parts.map(candidateKey);
+  base.files = filesOf(spec);
+  if (spec.kind === 'mixture') {
+    base.contains = spec.parts.map(candidateKey);
+    base.components = spec.parts.map((p) => ({ name: p.name, files: filesOf(p) }));
+  }
   try {
     const s = ctx.job.settings;
     const components = componentsOf(spec, { absorber: s.absorber, edge: s.edge, radius: s.radius, tolerance: s.tolerance }, ctx.frames);

@@ -1,13 +1,15 @@
 /**
  * Presenting a ranking: the ranked table as plain text, Markdown and CSV, and the JSON document
- * `{"candidates": [{"name", "file", "rank", "verdict", "stats", "fit", ...}], "settings",
- * "provenance"}`, written piece by piece (a candidate at a time, full records read back from the
+ * `{"candidates": [{"name", "file", "files", "rank", "verdict", "stats", "fit", ...}], "warnings",
+ * "settings", "provenance"}`, written piece by piece (a candidate at a time, full records read back from the
  * stream files) so that memory does not grow with the number of candidates.
  */
 import { closeSync, fsyncSync, mkdirSync, openSync, renameSync, unlinkSync, writeSync } from 'node:fs';
 import { basename, dirname, join, resolve } from 'node:path';
 import { InputError } from '../core/errors';
 import type { Provenance } from '../core/provenance';
+import { approximateScatteringWarning } from '../scatter/provider';
+import { defaultProviders } from '../scatter/registry';
 import type { FitSummary } from './evaluate';
 import type { AssembledRanking, RankingEntry } from './run';
 import { readRecordAt } from './stream';
@@ -92,6 +94,8 @@ export function candidateDocument(e: RankingEntry): Record<string, unknown> {
   const record = readRecordAt(e.stage === 'refine' && e.records.refine ? e.records.refine : e.records.prescreen);
   const fit: FitSummary | null = record.fit;
   const doc: Record<string, unknown> = { name: e.name, file: e.file };
+  if (record.files) doc.files = record.files;
+  if (record.components) doc.components = record.components;
   if (e.frame !== undefined) doc.frame = e.frame;
   if (record.tables) doc.tables = record.tables;
   doc.key = e.key;
@@ -108,6 +112,17 @@ export function candidateDocument(e: RankingEntry): Record<string, unknown> {
 }
 
 /**
+ * Warnings about a whole ranking: scattering from an approximate provider (named in
+ * `settings.provider`) makes every score and fitted value an illustration, not a result.
+ */
+export function rankingWarnings(settings: Record<string, unknown>): string[] {
+  const registry = defaultProviders({ cache: false });
+  const name = settings.provider;
+  if (typeof name !== 'string' || !registry.names().includes(name)) return [];
+  return registry.get(name).approximate ? [approximateScatteringWarning(name)] : [];
+}
+
+/**
  * Write the JSON document in pieces through `write` (a file or stdout): memory stays flat in the
  * number of candidates.
  */
@@ -117,7 +132,8 @@ export function writeRankingJson(ranking: AssembledRanking, settings: Record<str
     const text = JSON.stringify(candidateDocument(e), jsonReplacer, 2).replace(/\n/g, '\n    ');
     write(`${i === 0 ? '\n    ' : ',\n    '}${text}`);
   });
-  write(`${ranking.entries.length > 0 ? '\n  ' : ''}],\n  "settings": ${JSON.stringify(settings, jsonReplacer, 2).replace(/\n/g, '\n  ')},\n`);
+  write(`${ranking.entries.length > 0 ? '\n  ' : ''}],\n  "warnings": ${JSON.stringify(rankingWarnings(settings))},\n`);
+  write(`  "settings": ${JSON.stringify(settings, jsonReplacer, 2).replace(/\n/g, '\n  ')},\n`);
   write(`  "provenance": ${JSON.stringify(provenance, jsonReplacer, 2).replace(/\n/g, '\n  ')}\n}\n`);
 }
 

@@ -230,7 +230,9 @@ function candidateHtml(model: ReportModel, c: CandidateView, plots: HtmlPlot[]):
   const meta: string[] = [];
   if (model.kind === 'rank') meta.push(`${verdictDot(c.verdictClass)}${escapeHtml(c.verdict)}`);
   if (c.pValue !== null) meta.push(`p = ${escapeHtml(formatPValue(c.pValue))}${c.significanceTest ? ` (${escapeHtml(c.significanceTest)})` : ''} against the best`);
-  if (c.file) meta.push(`structure <code>${escapeHtml(c.file)}</code>`);
+  if (c.files.length > 0) meta.push(`structure${c.files.length > 1 ? 's' : ''} ${c.files.map((f) => `<code>${escapeHtml(f)}</code>`).join(' + ')}`);
+  else if (c.file) meta.push(`structure <code>${escapeHtml(c.file)}</code>`);
+  if (c.components.length > 1) meta.push(`mixture of ${c.components.map(escapeHtml).join(' and ')}`);
   meta.push(`fit status: ${escapeHtml(statusText(c.status))}`);
   parts.push(`<p>${meta.join(' · ')}</p>`);
   if (c.warnings.length > 0) parts.push(`<ul class="warnings">${c.warnings.map((w) => `<li>${escapeHtml(w)}</li>`).join('')}</ul>`);

@@ -17,7 +17,11 @@
  * reconcile names when fit and rank land:
  * - numbers may be `null` (our JSON writer turns NaN and Infinity into null): shown as "n/a";
  * - `shells[].n` is a number (fixed at the structure's value) or a `{ value, error, state }`;
- *   shells may also carry `c3`, `c4`, `label`, `group`, `degeneracy`;
+ *   shells may also carry `c3`, `c4`, `label`, `group`, `r0` (structure distance), `degeneracy`
+ *   (or `n0`) and `component` (index into the candidate's `components`, the parts of a mixture);
+ *   without a `label` a shell is named by species, distance and degeneracy ("O 3.317 Å (4)");
+ * - a candidate may list `files` (every structure file, all parts of a mixture) and `components`
+ *   (`[{ "name", "files" }]`, a mixture's parts); `stats` and `fit` are null for a failed candidate;
  * - `correlations` is either a list of pairs `{ "a", "b", "value" }` (also `names: [a, b]` or
  *   `params: [a, b]`) or a matrix `{ "names": [...], "matrix": [[...]] }`;
  * - `warnings` (top level, per fit or per candidate) are strings or `{ "message" }` objects;
@@ -75,6 +79,11 @@ const shellSchema = z.looseObject({
   c4: valueWithErrorSchema.optional(),
   label: z.string().optional(),
   group: z.string().optional(),
+  // the rank stage's extras: structure distance and degeneracy, and the mixture part it belongs to
+  r0: z.number().optional(),
+  degeneracy: num.optional(),
+  n0: num.optional(),
+  component: z.number().int().nonnegative().optional(),
 });
 
 const correlationPairSchema = z.looseObject({
@@ -116,10 +125,13 @@ const fitSchema = z.looseObject({
 const candidateSchema = z.looseObject({
   name: z.string(),
   file: z.string().optional(),
+  files: z.array(z.string()).optional(),
+  components: z.array(z.looseObject({ name: z.string(), files: z.array(z.string()).optional() })).optional(),
   rank: z.number(),
   verdict: z.string(),
-  stats: statsSchema,
-  fit: fitSchema.optional(),
+  // null for a candidate that could not be read or fitted (the rank stage writes its error)
+  stats: statsSchema.nullable(),
+  fit: fitSchema.nullable().optional(),
   pValue: num.optional(),
   significance: z.looseObject({ test: z.string().optional(), statistic: num.optional(), pValue: num.optional(), level: num.optional() }).optional(),
   // the rank stage's form: test: { method, statistic, d1, d2, pValue } (null for the best)
@@ -199,7 +211,11 @@ export type VerdictClass = 'best' | 'indistinguishable' | 'worse' | 'rejected' |
 /** One fitted candidate, as every renderer sees it. */
 export interface CandidateView {
   name: string;
+  /** Every structure file, joined with ' + ' (all parts of a mixture). */
   file?: string;
+  files: string[];
+  /** Names of a mixture's parts (empty for a single structure); shells name their part. */
+  components: string[];
   rank: number;
   verdict: string;
   verdictClass: VerdictClass;
@@ -320,21 +336,36 @@ function correlationsView(c: FitResultJson['correlations']): CorrelationView[] {
   return out;
 }
 
-function shellLabel(shell: z.infer<typeof shellSchema>, index: number): string {
-  if (shell.label) return shell.label;
-  if (shell.group) return shell.group;
-  return `${shell.species} ${index + 1}`;
+/**
+ * A shell's name in tables: its label, or species, distance and degeneracy ("O 3.317 Å (4)"; three
+ * decimals keep apart shells that differ by more than the usual 0.01 Å shell width), prefixed by
+ * the mixture part it belongs to.
+ */
+export function shellLabel(shell: z.infer<typeof shellSchema>, index: number, components: readonly string[] = []): string {
+  const part = components.length > 1 && shell.component !== undefined ? `${components[shell.component] ?? `part ${shell.component + 1}`}: ` : '';
+  if (shell.label) return part + shell.label;
+  const r = shell.r0 ?? shell.r.value;
+  const n = shell.degeneracy ?? shell.n0 ?? (typeof shell.n === 'number' || shell.n === null ? shell.n : shell.n.value);
+  if (r === null || r === undefined) return `${part}${shell.species} ${index + 1}`;
+  const count = n === null || n === undefined ? '' : ` (${Number(n.toFixed(2))})`;
+  return `${part}${shell.species} ${r.toFixed(3)} Å${count}`;
 }
 
 function fitCandidate(
   fit: FitResultJson,
-  base: { name: string; file?: string; rank: number; verdict: string; stats?: z.infer<typeof statsSchema>; pValue: number | null; test?: string; warnings: string[] },
+  base: {
+    name: string; file?: string; files?: string[]; components?: string[]; rank: number; verdict: string;
+    stats?: z.infer<typeof statsSchema>; pValue: number | null; test?: string; warnings: string[];
+  },
   file: string | undefined,
   key: string,
 ): CandidateView {
+  const components = base.components ?? [];
   return {
     name: base.name,
-    file: base.file,
+    file: base.files && base.files.length > 0 ? base.files.join(' + ') : base.file,
+    files: base.files ?? (base.file ? [base.file] : []),
+    components,
     rank: base.rank,
     verdict: base.verdict,
     verdictClass: classifyVerdict(base.verdict),
@@ -343,7 +374,7 @@ function fitCandidate(
     significanceTest: base.test,
     params: Object.fromEntries(Object.entries(fit.params).map(([k, v]) => [k, valueView(v)])),
     shells: fit.shells.map((s, i) => ({
-      label: shellLabel(s, i),
+      label: shellLabel(s, i, components),
       species: s.species,
       n: valueView(s.n),
       r: valueView(s.r),
@@ -393,19 +424,22 @@ export function reportModelFrom(document: unknown, file?: string): ReportModel {
   if (!parsed.success) throw issueToError(parsed.error, file, '');
   const rank = parsed.data;
   const shortNames = displayNames(rank.candidates.map((c) => c.name));
+  const componentNames = rank.candidates.map((c) => (c.components ? displayNames(c.components.map((p) => p.name)) : undefined));
   const candidates = rank.candidates
     .map((c, index) => {
       const base = {
         name: shortNames[index],
         file: c.file,
+        files: c.files,
+        components: componentNames[index],
         rank: c.rank,
         verdict: c.verdict,
-        stats: c.stats,
+        stats: c.stats ?? undefined,
         pValue: c.significance?.pValue ?? c.test?.pValue ?? c.pValue ?? null,
         test: c.significance?.test ?? c.test?.method,
         warnings: (c.warnings ?? []).map(warningText),
       };
-      const fit: FitResultJson = c.fit ?? { stats: c.stats, params: {}, shells: [] };
+      const fit: FitResultJson = c.fit ?? { stats: c.stats ?? {}, params: {}, shells: [] };
       return fitCandidate(fit, base, file, `candidates.${index}.fit`);
     })
     .sort((x, y) => x.rank - y.rank);

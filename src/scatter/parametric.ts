@@ -53,5 +53,6 @@ export function parametricTable(request: ScatteringRequest): ScatteringTable {
 export const parametricProvider: ScatteringProvider = {
   name: 'parametric',
   describe: 'closed-form approximate functions, for tests and benchmarks only (not for real data)',
+  approximate: true,
   compute: parametricTable,
 };

@@ -65,6 +65,8 @@ export interface ScatteringProvider {
   readonly name: string;
   /** One line for `--help` and reports. */
   readonly describe: string;
+  /** True for a provider whose tables are not first-principles (as their `info.approximate`). */
+  readonly approximate?: boolean;
   compute(request: ScatteringRequest): ScatteringTable;
   /**
    * Optional: tables of multiple-scattering paths (./multiple-scattering), one per path, for the
@@ -99,4 +101,18 @@ export class ProviderRegistry {
   names(): string[] {
     return [...this.providers.keys()];
   }
+}
+
+/**
+ * The warning every result computed with approximate scattering functions carries: their numbers
+ * look like real ones but are not.
+ */
+export function approximateScatteringWarning(provider: string): string {
+  return `scattering functions from the '${provider}' provider are approximate closed forms meant for tests: `
+    + 'distances, msrd and S0^2 fitted with them are not physical values; use firstPrinciples for measured data';
+}
+
+/** The approximate-scattering warning for a set of tables (one per approximate provider among them). */
+export function approximateTablesWarnings(tables: readonly ScatteringTable[]): string[] {
+  return [...new Set(tables.filter((t) => t.info.approximate).map((t) => t.info.provider))].map(approximateScatteringWarning);
 }

@@ -16,7 +16,7 @@ import { DEFAULT_PROVIDER } from '../../scatter/registry';
 import { parseAbsorberSelector } from '../../structure/cluster';
 import { discoverCandidates, frameRefsOfFile, type CandidateSpec } from '../../rank/candidates';
 import type { PrescreenDisorder } from '../../rank/evaluate';
-import { rankingTable, writeFileInPieces, writeRankingJson, type TableFormat } from '../../rank/output';
+import { rankingTable, rankingWarnings, writeFileInPieces, writeRankingJson, type TableFormat } from '../../rank/output';
 import { RankInterrupted } from '../../rank/pool';
 import { readRecordAt } from '../../rank/stream';
 import { formatProgress } from '../../rank/progress';
@@ -213,6 +213,7 @@ export function presentRanking(io: CliIo, ranking: AssembledRanking, raw: { out?
     writeFileInPieces(join(dir, 'ranking.md'), (write) => write(rankingTable(ranking, 'markdown')), extra.protectedInputs);
     writeFileInPieces(join(dir, 'ranking.csv'), (write) => write(rankingTable(ranking, 'csv')), extra.protectedInputs);
   }
+  for (const warning of rankingWarnings(settings)) io.stderr(`warning: ${warning}\n`);
   if (raw.json) {
     writeRankingJson(ranking, settings, provenance, (text) => io.stdout(text));
     return;

@@ -5,7 +5,7 @@
 import type { InputRecord } from '../../core/provenance';
 import { tablesForPaths } from '../../model/tables';
 import type { PathSet } from '../../paths/pathset';
-import type { ScatteringProvider } from '../../scatter/provider';
+import { approximateTablesWarnings, type ScatteringProvider } from '../../scatter/provider';
 import type { WindowShape } from '../../numeric/window';
 import type { Chi } from '../../reduce/index';
 import { InputError } from '../../core/errors';
@@ -55,7 +55,7 @@ export function fitStructure(chi: Chi, pathSet: PathSet, provider: ScatteringPro
   }]);
   const used = { ...s, provider: provider.name };
   const result = refine(problem, { starts: s.starts, maxIterations: s.maxIterations }, { ...used, recipe: recipe.description }, [...inputs, { role: 'paths', sha256: pathSet.provenance.id }]);
-  return { ...result, recipe: recipe.description, settings: used };
+  return { ...result, warnings: [...result.warnings, ...approximateTablesWarnings(tables)], recipe: recipe.description, settings: used };
 }
 
 /** The data's element and edge (when the file states them) must be the model's absorber and edge. */

@@ -31,7 +31,7 @@ import { tablesForPaths } from '../../model/tables';
 import { shellsOfStructure, type PathSet, type ScatteringPath } from '../../paths/index';
 import { loadStructureFile, pickFrame } from '../../read/load-structure';
 import { DEFAULT_PROVIDER } from '../../scatter/registry';
-import type { ProviderRegistry, ScatteringProvider } from '../../scatter/provider';
+import { approximateTablesWarnings, type ProviderRegistry, type ScatteringProvider } from '../../scatter/provider';
 import { parseAbsorberSelector } from '../../structure/cluster';
 import { compileExpression, NAME_PATTERN } from '../expressions';
 import { defineParameters, type ParameterSpec } from '../parameters';
@@ -467,6 +467,7 @@ export function prepareStudy(study: StudyFile, options: PrepareOptions): Prepare
     };
     return { settings: d, data: ds.data, structure: ds.structure, pathSet: ds.pathSet, shells, fit };
   });
+  warnings.push(...approximateTablesWarnings(datasets.flatMap((d) => d.fit.tables)));
   const problem = at({ file, line: study.where(['datasets']).line, key: 'datasets' }, file, () => buildExafsProblem(parameters, datasets.map((d) => d.fit)));
 
   const description: string[] = [];
