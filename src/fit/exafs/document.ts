@@ -4,6 +4,7 @@
  *     "params": {"amp": {value, error, state}, "e0": {...}, ...every user parameter},
  *     "shells": [{species, id, n, r: {value, error}, r0, msrd: {value, error}, c3, c4}],
  *     "correlations": [{a, b, value}], "warnings": [...], "recipe": [...],
+ *     "plausibility": [{code, parameter?, dataset?, shell?, value, limit?, message}] (./plausibility.ts),
  *     "status": {code, converged, message, iterations, evaluations},
  *     "data": {file, sha256, reducedHere, e0, edgeStep, noise}, "structure": {file, sha256, absorber, sites},
  *     "curves": {kWeighting, k, data, model, window, rRange, shells: [{label, chi}]} (unweighted chi(k) of the first
@@ -38,6 +39,7 @@ export function fitDocument(result: StructureFitResult, context: FitDocumentCont
     })),
     correlations: result.correlations,
     warnings: result.warnings,
+    plausibility: result.plausibility,
     recipe: result.recipe,
     status: result.status,
     data: {

@@ -2,7 +2,8 @@
  * Running an EXAFS refinement and reporting it: Levenberg-Marquardt (optionally multi-start) on
  * the problem of ./problem.ts, then statistics (../statistics.ts), parameter errors by the delta
  * method for tied quantities, shells with their refined n, r, msrd, c3, c4, correlations and
- * warnings. Non-convergence is a status in the result, never an exception.
+ * warnings, and the plausibility checks of ./plausibility.ts. Non-convergence is a status in the
+ * result, never an exception.
  */
 import { makeProvenance, type InputRecord, type Provenance } from '../../core/provenance';
 import { fitLeastSquares, type FitStatus } from '../levenberg-marquardt';
@@ -11,6 +12,7 @@ import { fitStatistics } from '../statistics';
 import { propagateNoise, studentTFactor } from '../noise-propagation';
 import type { ParameterState } from '../parameters';
 import type { DatasetCurves, ExafsProblem } from './problem';
+import { plausibilityWarnings, type PlausibilityWarning } from './plausibility';
 
 export interface RefineOptions {
   /** Number of starts (1 = the given start only; more adds seeded random starts). */
@@ -82,7 +84,10 @@ export interface ExafsFitResult {
   shells: ShellResult[];
   /** Correlations between varied parameters, |c| >= 0.5, strongest first. */
   correlations: { a: string; b: string; value: number }[];
+  /** Messages for the reader: statistics, convergence and the plausibility messages. */
   warnings: string[];
+  /** The plausibility checks (./plausibility.ts) with code, subject, value and limit. */
+  plausibility: PlausibilityWarning[];
   curves: DatasetCurves[];
   provenance: Provenance;
 }
@@ -162,6 +167,17 @@ export function refine(problem: ExafsProblem, options: RefineOptions = {}, setti
   correlations.sort((x, y) => Math.abs(y.value) - Math.abs(x.value));
   const warnings = stats.warnings.map((w) => w.message);
   if (fit.status !== 'converged') warnings.unshift(`the fit did not converge: ${fit.message}`);
+  const plausibility = plausibilityWarnings({
+    status: { converged: fit.status === 'converged', message: fit.message },
+    params,
+    shells,
+    datasets: problem.datasets.map((d, di) => ({
+      name: d.spec.name, amp: byName.get(`_d${di}_amp`)!.value, e0: byName.get(`_d${di}_e0`)!.value,
+      ampExpression: d.spec.amp ?? 'amp', e0Expression: d.spec.e0 ?? 'e0',
+    })),
+  });
+  // convergence and bounds already have their messages above
+  warnings.push(...plausibility.filter((w) => w.code !== 'not-converged' && w.code !== 'at-bound').map((w) => w.message));
   return {
     status: { code: fit.status, converged: fit.status === 'converged', message: fit.message, iterations: fit.iterations, evaluations: fit.evaluations },
     stats: {
@@ -176,6 +192,7 @@ export function refine(problem: ExafsProblem, options: RefineOptions = {}, setti
     shells,
     correlations,
     warnings,
+    plausibility,
     curves: problem.curves(fit.params),
     provenance: makeProvenance({ stage: 'fit', ...settings, refine: options }, inputs),
   };
