@@ -39,16 +39,16 @@ describe('measured Cu scan cut short', () => {
   it('a scan that starts after the edge', () => {
     expect(failure(window(cu(), 8990, 1e5)).message).toMatch(/starts at .* after .* the Cu K edge/);
   });
-  it('a scan that starts just below the edge: too little pre-edge', () => {
-    expect(failure(window(cu(), 8965, 1e5)).message).toMatch(/starts at/);
+  it('a scan that starts under 10 eV below E0: no pre-edge (a line of 5 eV ending 5 eV below E0 is the least; src/reduce/reduce.ts)', () => {
+    expect(failure(window(cu(), 8973, 1e5)).message).toMatch(/starts at .* only [\d.]+ eV below E0 = 8980\.\d\d eV: no pre-edge to fit/);
   });
   it('too few points above the edge for the requested k range', () => {
     const e = failure(cu(), { kMax: 20 });
     expect(e.message).toMatch(/too few points above the edge: the scan reaches k = 17\.\d\d 1\/Å .* short of the requested kMax = 20/);
     expect(e.key).toBe('kMax');
   });
-  it('a scan that ends shortly above the edge', () => {
-    expect(failure(window(cu(), 0, 9050)).message).toMatch(/too few points above the edge|post-edge range/);
+  it('a scan that ends shortly above the edge (under 30 eV past E0: no post-edge to fit)', () => {
+    expect(failure(window(cu(), 0, 9005)).message).toMatch(/too few points above the edge|post-edge range/);
   });
   it('a given E0 outside the scan', () => {
     expect(failure(cu(), { e0: 12000 }).message).toMatch(/given E0 12000 eV lies outside the scan/);

@@ -98,7 +98,11 @@ describe('study error messages name the file, the line and the key', () => {
   });
 
   it('a missing required key', () => {
-    expect(studyError(VALID.filter((_, i) => i !== 8)).message).toBe("bad.study.yaml:7: datasets[0]: needs 'absorber' (here or under defaults)");
+    expect(studyError(VALID.filter((_, i) => i !== 7)).message).toBe("bad.study.yaml:7: datasets[0]: needs 'structure' (here or under defaults)");
+  });
+
+  it('an edge that clashes with the data file\'s edge, at the edge key', () => {
+    expect(studyError([...VALID, '    edge: L3']).message).toMatch(/^bad\.study\.yaml:15: datasets\[0\]\.edge: \S*cu\.chi\.json: edge L3 clashes with the data's edge K \(a Cu K spectrum\); leave edge out to use the data's$/);
   });
 
   it('a bad expression', () => {

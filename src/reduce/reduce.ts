@@ -56,6 +56,53 @@ export interface ReductionOptions {
   calibrate?: boolean;
 }
 
+/**
+ * Short pre-edges. The default pre-edge range (E0 -150 to -30 eV) needs a scan that starts at
+ * least 30 eV below the edge; many scans start closer. The rising edge is a step broadened by the
+ * core-hole lifetime, a Lorentzian of full width Gamma (xraylib 4.0.0 widths in
+ * src/elements/table.ts), whose arctangent tail still holds (1/pi) Gamma / (2 dE) of the step at
+ * dE below E0: about 4 % for Mn K (Gamma 1.1 eV) at 5 eV, 8 % at 2 Gamma for any edge. So the
+ * line may come no closer to E0 than max(5 eV, 2 Gamma) (PRE_EDGE_GAP_EV, the gap), and it
+ * needs at least PRE_EDGE_MIN_WIDTH_EV of data and PRE_EDGE_MIN_POINTS points to be a line with
+ * a residual at all. When the default range holds fewer points, the line is fitted from the scan's
+ * first point to the gap, with a warning that names the range, the points and the order; a scan
+ * that starts less than gap + width below E0 (10 eV for a 3d K edge, 16 eV for Au L3) has no
+ * pre-edge and is refused. A line fitted over 10-20 eV has a poorly known slope: the edge step
+ * (and with it S0^2) may be off by a few per cent, chi(k) hardly (the slope error is smooth and
+ * goes into the background spline). The thresholds are common practice, no source.
+ */
+export const PRE_EDGE_GAP_EV = 5;
+export const PRE_EDGE_MIN_WIDTH_EV = 5;
+export const PRE_EDGE_MIN_POINTS = 5;
+
+/**
+ * Short post-edges (near-edge scans that end before E0 + 150 eV, the default start of the
+ * post-edge polynomial): the polynomial is fitted from E0 + 30 eV, past the strongest near-edge
+ * features, to the end of the scan, at most a line (a quadratic over a few tens of eV follows the
+ * first oscillation), with a warning naming the range, the points and the order. Common practice,
+ * no source.
+ */
+export const POST_EDGE_SHORT_START_EV = 30;
+
+/** Closest approach of a fallback pre-edge line to E0, eV: max(5 eV, 2 core-hole widths). */
+export function preEdgeGap(coreHoleWidthEv: number | null): number {
+  return Math.max(PRE_EDGE_GAP_EV, 2 * (coreHoleWidthEv ?? 0));
+}
+
+function pointsBetween(energy: Float64Array, lo: number, hi: number): number {
+  let n = 0;
+  for (let i = 0; i < energy.length; i++) if (energy[i] >= lo && energy[i] <= hi) n++;
+  return n;
+}
+
+/** The standard padded with zeros (or cut) to the k grid's length; null when none is given. */
+function standardOnGrid(standard: Float64Array | null | undefined, points: number): Float64Array | null {
+  if (!standard) return null;
+  const out = new Float64Array(points);
+  out.set(standard.subarray(0, Math.min(points, standard.length)));
+  return out;
+}
+
 /** Fewest chi(k) grid points above E0 a reduction accepts (2 1/Å of data). */
 export const MIN_K_POINTS = 40;
 
@@ -115,6 +162,12 @@ export function reduceScan(input: Scan, options: ReductionOptions = {}): Reducti
   const settings = resolveReductionSettings(options);
   const file = input.info.file ?? undefined;
   const warnings = [...input.info.warnings];
+  // the reduction's own warnings, also kept apart in the record for commands that reduce on the way
+  const reductionWarnings: string[] = [];
+  const warn = (text: string) => {
+    warnings.push(text);
+    reductionWarnings.push(text);
+  };
 
   const { scan: clean, removed } = deglitchScan(input, settings.glitches);
   let scan = clean;
@@ -139,15 +192,36 @@ export function reduceScan(input: Scan, options: ReductionOptions = {}): Reducti
     if (table && last < table.energy + 20) {
       throw new InputError(`the scan ends at ${last} eV, before the ${scan.info.element} ${scan.info.edge} edge at ${table.energy} eV (xraylib 4.0.0)`, { file });
     }
-    if (table && first > table.energy - 20) {
-      throw new InputError(`the scan starts at ${first} eV, after (or within 20 eV of) the ${scan.info.element} ${scan.info.edge} edge at ${table.energy} eV (xraylib 4.0.0)`, { file });
+    if (table && first > table.energy - PRE_EDGE_MIN_WIDTH_EV) {
+      throw new InputError(`the scan starts at ${first} eV, after (or within ${PRE_EDGE_MIN_WIDTH_EV} eV of) the ${scan.info.element} ${scan.info.edge} edge at ${table.energy} eV (xraylib 4.0.0): no pre-edge`, { file });
     }
     e0Report = findE0(energy, mu, { smoothingEv: smoothing });
   }
   const e0 = e0Report.value;
-  if (e0 - first < 20) throw new InputError(`the scan starts at ${first} eV, only ${(e0 - first).toFixed(1)} eV below E0 = ${e0.toFixed(2)} eV: it starts after the edge (at least 20 eV of pre-edge needed)`, { file, key: 'e0' });
+  // ---- pre-edge range (see PRE_EDGE_GAP_EV)
+  let normalisation = settings.normalisation;
+  let shortPreEdge: { defaultRange: [number, number]; gapEv: number } | null = null;
+  {
+    const gap = preEdgeGap(table?.width ?? null);
+    const needed = gap + PRE_EDGE_MIN_WIDTH_EV;
+    if (e0 - first < needed) {
+      throw new InputError(`the scan starts at ${first} eV, only ${(e0 - first).toFixed(1)} eV below E0 = ${e0.toFixed(2)} eV: no pre-edge to fit (a line needs at least ${PRE_EDGE_MIN_WIDTH_EV} eV of data ending ${gap.toFixed(1)} eV below E0, so the scan must start ${needed.toFixed(1)} eV below it)`, { file, key: 'e0' });
+    }
+    const requested = normalisation.preEdge;
+    if (options.normalisation?.preEdge === undefined && pointsBetween(energy, e0 + requested[0], e0 + requested[1]) < PRE_EDGE_MIN_POINTS) {
+      // from the first measured point (the rounding keeps it inside the range) to the gap
+      const range: [number, number] = [Math.floor((first - e0) * 100) / 100, -Number(gap.toFixed(2))];
+      const held = pointsBetween(energy, e0 + range[0], e0 + range[1]);
+      if (held < PRE_EDGE_MIN_POINTS) {
+        throw new InputError(`the scan starts only ${(e0 - first).toFixed(1)} eV below E0 = ${e0.toFixed(2)} eV and holds ${held} points between E0 ${range[0].toFixed(1)} and ${range[1].toFixed(1)} eV: no pre-edge to fit (at least ${PRE_EDGE_MIN_POINTS} points needed)`, { file, key: 'preEdge' });
+      }
+      normalisation = { ...normalisation, preEdge: range };
+      shortPreEdge = { defaultRange: requested, gapEv: gap };
+      warn(`${file ?? 'scan'}: short pre-edge: the scan starts ${(e0 - first).toFixed(1)} eV below E0 = ${e0.toFixed(2)} eV, so the pre-edge line (order ${normalisation.preEdgeOrder}) was fitted over E0 ${range[0].toFixed(1)} to ${range[1].toFixed(1)} eV (${held} points) instead of ${requested[0]} to ${requested[1]} eV; the edge step and S0^2 may be off by a few per cent`);
+    }
+  }
   if (table && Math.abs(e0 - table.energy) > 20) {
-    warnings.push(`${file ?? 'scan'}: E0 = ${e0.toFixed(2)} eV is ${(e0 - table.energy).toFixed(1)} eV from the tabulated ${scan.info.element} ${scan.info.edge} edge (${table.energy} eV, xraylib 4.0.0); check the energy calibration and the element`);
+    warn(`${file ?? 'scan'}: E0 = ${e0.toFixed(2)} eV is ${(e0 - table.energy).toFixed(1)} eV from the tabulated ${scan.info.element} ${scan.info.edge} edge (${table.energy} eV, xraylib 4.0.0); check the energy calibration and the element`);
   }
 
   // ---- k range available
@@ -164,8 +238,23 @@ export function reduceScan(input: Scan, options: ReductionOptions = {}): Reducti
   for (let i = 0; i < energy.length; i++) if (energy[i] > e0) above++;
   if (above < 12) throw new InputError(`too few points above the edge: ${above} measured points above E0 = ${e0.toFixed(2)} eV (at least 12 needed)`, { file });
 
+  // ---- post-edge range (see POST_EDGE_SHORT_START_EV)
+  if (options.normalisation?.postEdge === undefined && options.normalisation?.postEdgeOrder === undefined) {
+    const requested = normalisation.postEdge;
+    const end = requested[1] ?? last - e0;
+    if (pointsBetween(energy, e0 + requested[0], e0 + end) < PRE_EDGE_MIN_POINTS && last - e0 > POST_EDGE_SHORT_START_EV) {
+      const range: [number, number | null] = [POST_EDGE_SHORT_START_EV, null];
+      const held = pointsBetween(energy, e0 + POST_EDGE_SHORT_START_EV, last);
+      const order = Math.min(normalisation.postEdgeOrder, 1);
+      if (held >= PRE_EDGE_MIN_POINTS) {
+        normalisation = { ...normalisation, postEdge: range, postEdgeOrder: order };
+        warn(`${file ?? 'scan'}: short post-edge: the scan ends ${(last - e0).toFixed(1)} eV above E0, so the post-edge polynomial (order ${order}) was fitted over E0 +${POST_EDGE_SHORT_START_EV} to +${(last - e0).toFixed(1)} eV (${held} points) instead of +${requested[0]} eV to ${requested[1] ?? 'the end'}; near-edge data: chi(k) ends at k = ${Math.sqrt(K2_PER_EV * (last - e0)).toFixed(2)} 1/Å`);
+      }
+    }
+  }
+
   // ---- normalisation
-  const firstNorm = normalise(energy, mu, e0, settings.normalisation, file);
+  const firstNorm = normalise(energy, mu, e0, normalisation, file);
 
   // ---- k grid and background
   const k = new Float64Array(points);
@@ -186,7 +275,7 @@ export function reduceScan(input: Scan, options: ReductionOptions = {}): Reducti
     for (let i = 0; i < energy.length; i++) background[i] = energy[i] >= e0 ? firstNorm.preLine[i] + firstNorm.edgeStep * spline[i] : firstNorm.preLine[i];
   }
   // optional refinement: the post-edge polynomial refitted to the smooth mu0(E), chi rescaled
-  const norm = settings.normalisation.refineStep ? normalise(energy, mu, e0, settings.normalisation, file, background) : firstNorm;
+  const norm = normalisation.refineStep ? normalise(energy, mu, e0, normalisation, file, background) : firstNorm;
   const chiValues = bkg.chi;
   if (norm !== firstNorm) {
     const ratio = firstNorm.edgeStep / norm.edgeStep;
@@ -204,7 +293,7 @@ export function reduceScan(input: Scan, options: ReductionOptions = {}): Reducti
       tabulatedSource: table ? `${scan.info.element} ${scan.info.edge} edge, xraylib 4.0.0` : null,
       differenceEv: table ? e0 - table.energy : null,
     },
-    preEdge: lineReport(norm.preEdge),
+    preEdge: { ...lineReport(norm.preEdge), shortPreEdge },
     postEdge: lineReport(norm.postEdge),
     edgeStep: norm.edgeStep,
     edgeStepBeforeRefinement: firstNorm.edgeStep,
@@ -229,6 +318,7 @@ export function reduceScan(input: Scan, options: ReductionOptions = {}): Reducti
     noise,
     glitches: removed,
     calibration,
+    warnings: reductionWarnings,
   };
   const provenance = makeProvenance(settingsRecord(settings, smoothing), [
     { role: 'scan', file: input.info.file ?? undefined, sha256: input.info.sha256 ?? 'in-memory' },

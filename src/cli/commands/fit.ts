@@ -6,7 +6,7 @@ import { loadStructureFile, pickFrame } from '../../read/load-structure';
 import { shellsOfStructure } from '../../paths/index';
 import { defaultProviders, DEFAULT_PROVIDER } from '../../scatter/registry';
 import { absorberAndEdgeFromData } from '../../fit/exafs/absorber-from-data';
-import { loadChiOrReduce } from '../../fit/exafs/data';
+import { loadChiOrReduce, type LoadedChi } from '../../fit/exafs/data';
 import { fitStructure, DEFAULT_FIT_SETTINGS, type StructureFitSettings } from '../../fit/exafs/fit-structure';
 import { fitDocument } from '../../fit/exafs/document';
 import { FIT_SPACES, type FitSpace } from '../../fit/exafs/problem';
@@ -47,6 +47,12 @@ export function addFitOptions(command: Command): Command {
     .option('--max-iterations <n>', 'most Levenberg-Marquardt iterations per fit', '200')
     .option('--provider <name>', 'scattering provider', DEFAULT_PROVIDER)
     .option('--no-cache', 'recompute scattering functions instead of reading the on-disk cache');
+}
+
+/** What the reduction on the way warned about (a short pre-edge, an E0 far from the table); none for a saved reduction. */
+export function reductionWarnings(data: LoadedChi): string[] {
+  const w = (data.chi.info.reduction as { warnings?: unknown } | undefined)?.warnings;
+  return data.reducedHere && Array.isArray(w) ? w.filter((x): x is string => typeof x === 'string') : [];
 }
 
 /** S0^2 from an earlier fit document; refused when that fit did not converge (its S0^2 calibrates nothing). */
@@ -101,6 +107,7 @@ export function registerFit(program: Command, io: CliIo): void {
       const settings = parseFitOptions(raw);
       const provider = defaultProviders({ cache: raw.cache }).get(raw.provider);
       const data = loadChiOrReduce(dataFile);
+      for (const w of reductionWarnings(data)) io.stderr(`shellrank: warning: ${w}\n`);
       const { absorber, edge } = absorberAndEdgeFromData(data.chi, o, dataFile);
       const loaded = loadStructureFile(structureFile, { format: o.format });
       const structure = pickFrame(loaded, o.frame);

@@ -13,7 +13,7 @@ import { buildClusters } from '../../structure/cluster';
 import type { CliIo } from '../io';
 import { emit, textTable, toJson } from '../output';
 import { parseInteger, parseNumber, parseRange } from '../options';
-import { addStructureOptions, parseStructureOptions, type StructureCliOptions } from './structure-options';
+import { addStructureOptions, parseStructureOptions, withoutData, type StructureCliOptions } from './structure-options';
 
 interface PathsCliOptions extends StructureCliOptions {
   rmax: string;
@@ -41,7 +41,7 @@ export function registerPaths(program: Command, io: CliIo): void {
     .option('--json', 'write JSON instead of a table')
     .option('--out <file>', 'write to this file instead of the terminal')
     .action((file: string, raw: PathsCliOptions) => {
-      const o = parseStructureOptions(raw);
+      const o = withoutData(parseStructureOptions(raw));
       const maxHalfLength = parseNumber('--rmax', raw.rmax, { min: 0, exclusiveMin: true });
       if (maxHalfLength > o.radius) throw new InputError(`must not exceed --radius (${o.radius} Å): no atom of a path is farther than its effective distance`, { key: '--rmax' });
       const settings = {

@@ -8,12 +8,13 @@ import { join, resolve } from 'node:path';
 import type { Command } from 'commander';
 import { ComputationError, InputError } from '../../core/errors';
 import { makeProvenance, type InputRecord } from '../../core/provenance';
-import { parseEdge } from '../../elements/index';
+import { absorberAndEdgeFromData } from '../../fit/exafs/absorber-from-data';
 import { loadChiOrReduce } from '../../fit/exafs/data';
 import { FIT_SPACES, type FitSpace } from '../../fit/exafs/problem';
 import { WINDOW_SHAPES, type WindowShape } from '../../numeric/window';
 import { DEFAULT_PROVIDER } from '../../scatter/registry';
-import { parseAbsorberSelector } from '../../structure/cluster';
+import type { Chi } from '../../reduce/chi';
+import { parseAbsorberSelector, type AbsorberSelector } from '../../structure/cluster';
 import { discoverCandidates, frameRefsOfFile, type CandidateSpec } from '../../rank/candidates';
 import type { PrescreenDisorder } from '../../rank/evaluate';
 import { rankingTable, rankingWarnings, writeFileInPieces, writeRankingJson, type TableFormat } from '../../rank/output';
@@ -25,12 +26,13 @@ import { prepareRanking, type PreparedRanking, type RankOptions } from '../../ra
 import type { RankingOptions } from '../../rank/verdicts';
 import type { CliIo } from '../io';
 import { parseInteger, parseNumber, parseRange } from '../options';
-import { ampFromFit } from './fit';
+import { ampFromFit, reductionWarnings } from './fit';
+import { parseEdgeOption } from './structure-options';
 
 /** Raw option values shared by rank and screen (commander's camel-case names). */
 export interface RankCliOptions {
-  absorber: string;
-  edge: string;
+  absorber?: string;
+  edge?: string;
   radius?: string;
   tolerance: string;
   format?: string;
@@ -77,8 +79,8 @@ export interface RankCliOptions {
 /** Options of the ranking (window, recipe, pre-screen, scale, output), for rank and screen. */
 export function addRankOptions(command: Command): Command {
   return command
-    .requiredOption('--absorber <which>', 'absorbing atom: an element (Cu), a 0-based index (#12), or a site label (label:Cu1)')
-    .option('--edge <edge>', 'absorption edge: K, L1, L2 or L3', 'K')
+    .option('--absorber <which>', 'absorbing atom: an element (Cu), a 0-based index (#12), or a site label (label:Cu1); default: the element the data file names')
+    .option('--edge <edge>', "absorption edge: K, L1, L2 or L3; default: the data file's edge (else K)")
     .option('--radius <angstrom>', 'cluster radius in Å (default: R max + margin + 0.5)')
     .option('--tolerance <angstrom>', 'maximum width of one shell in Å', '0.01')
     .option('--format <name>', 'structure format (xyz, extxyz, cif, pdb); detected when omitted')
@@ -122,8 +124,17 @@ export function addRankOptions(command: Command): Command {
     .option('--quiet', 'no progress bar');
 }
 
+/** Ranking options before the data are read: the absorber may still be missing (the data name it). */
+export type RankOptionsBeforeData = Omit<RankOptions, 'absorber'> & { absorber?: AbsorberSelector };
+
+/** The absorber and edge given, else those the data file names (src/fit/exafs/absorber-from-data.ts). */
+export function withDataAbsorber(options: RankOptionsBeforeData, chi: Chi, dataFile: string): RankOptions {
+  const { absorber, edge } = absorberAndEdgeFromData(chi, options, dataFile);
+  return { ...options, absorber, edge };
+}
+
 /** The ranking options in library form. */
-export function parseRankOptions(raw: RankCliOptions, io: CliIo): { options: RankOptions; ranking: RankingOptions & { refineTop: number } } {
+export function parseRankOptions(raw: RankCliOptions, io: CliIo): { options: RankOptionsBeforeData; ranking: RankingOptions & { refineTop: number } } {
   if (!(WINDOW_SHAPES as readonly string[]).includes(raw.window)) throw new InputError(`unknown window '${raw.window}' (expected one of ${WINDOW_SHAPES.join(', ')})`, { key: '--window' });
   if (!(FIT_SPACES as readonly string[]).includes(raw.space)) throw new InputError(`unknown fit space '${raw.space}' (expected one of ${FIT_SPACES.join(', ')})`, { key: '--space' });
   const shape = raw.window as WindowShape;
@@ -141,9 +152,9 @@ export function parseRankOptions(raw: RankCliOptions, io: CliIo): { options: Ran
   if (raw.distances !== undefined && raw.distances !== 'expand' && raw.distances !== 'fixed') throw new InputError(`expected 'expand' or 'fixed', got '${raw.distances}'`, { key: '--distances' });
   if (!['auto', 'own', 'shared'].includes(raw.tables)) throw new InputError(`expected 'auto', 'own' or 'shared', got '${raw.tables}'`, { key: '--tables' });
   const kWeights = raw.kw.split(',').map((w) => parseNumber('--kw', w, { min: 0, max: 4 }));
-  const options: RankOptions = {
-    absorber: parseAbsorberSelector(raw.absorber),
-    edge: parseEdge(raw.edge),
+  const options: RankOptionsBeforeData = {
+    absorber: raw.absorber !== undefined ? parseAbsorberSelector(raw.absorber) : undefined,
+    edge: raw.edge !== undefined ? parseEdgeOption(raw.edge) : undefined,
     tolerance: parseNumber('--tolerance', raw.tolerance, { min: 0 }),
     rRange: parseRange('--r', raw.r),
     kWeights,
@@ -304,8 +315,10 @@ export function registerRank(program: Command, io: CliIo): void {
     .option('--ensemble', 'average the frames of each multi-frame file into one candidate (configurational average)')
     .option('--mixture <a,b>', 'add a two-candidate mixture with a fitted fraction (files, or file#frame); repeatable', (v: string, all: string[] = []) => [...all, v])
     .action(async (dataFile: string, inputs: string[], raw: RankCommandOptions) => {
-      const { options, ranking } = parseRankOptions(raw, io);
+      const parsed = parseRankOptions(raw, io);
       const data = loadChiOrReduce(resolve(io.cwd, dataFile));
+      const options = withDataAbsorber(parsed.options, data.chi, dataFile);
+      const { ranking } = parsed;
       const specs = discoverCandidates(inputs, { format: raw.format, ensemble: Boolean(raw.ensemble), resolvePath: (p) => resolve(io.cwd, p) });
       for (const pair of raw.mixture ?? []) {
         const parts = pair.split(',');
@@ -318,7 +331,7 @@ export function registerRank(program: Command, io: CliIo): void {
       }
       const prepared = prepareRanking({ name: dataFile, file: dataFile, sha256: data.sha256, chi: data.chi }, specs, options, { cwd: io.cwd, cache: raw.cache });
       const inputsRecord: InputRecord[] = [{ role: 'data', file: dataFile, sha256: data.sha256 }];
-      const notes = data.reducedHere ? [`${dataFile} was reduced here with default settings (run \`shellrank reduce\` to choose them)`] : [];
+      const notes = data.reducedHere ? [`${dataFile} was reduced here with default settings (run \`shellrank reduce\` to choose them)`, ...reductionWarnings(data)] : [];
       await executeRanking(io, prepared, raw, ranking, inputsRecord, [resolve(io.cwd, dataFile), ...inputs.map((p) => resolve(io.cwd, p))], notes);
     });
 }

@@ -169,7 +169,7 @@ function summary(file: string, chi: Chi, merge: MergeResult | null, scans: Scan[
   const tab = r.e0.tabulatedEdge !== null ? `; tabulated edge ${r.e0.tabulatedEdge} eV (xraylib 4.0.0), difference ${r.e0.differenceEv.toFixed(2)} eV` : '';
   lines.push(`E0 = ${chi.e0.toFixed(2)} eV (${r.e0.method}${r.e0.method === 'given' ? '' : `, smoothing ${r.e0.smoothingEv} eV`}${tab})`);
   lines.push(`edge step = ${chi.edgeStep.toPrecision(5)} (before refinement ${Number(r.edgeStepBeforeRefinement).toPrecision(5)})`);
-  lines.push(`pre-edge: E0 ${r.preEdge.used[0].toFixed(1)} to ${r.preEdge.used[1].toFixed(1)} eV, order ${r.preEdge.order}, ${r.preEdge.points} points${r.preEdge.clipped ? ' (range clipped to the data)' : ''}`);
+  lines.push(`pre-edge: E0 ${r.preEdge.used[0].toFixed(1)} to ${r.preEdge.used[1].toFixed(1)} eV, order ${r.preEdge.order}, ${r.preEdge.points} points${r.preEdge.shortPreEdge ? ' (short pre-edge: from the first point of the scan)' : r.preEdge.clipped ? ' (range clipped to the data)' : ''}`);
   lines.push(`post-edge: E0 +${r.postEdge.used[0].toFixed(1)} to +${r.postEdge.used[1].toFixed(1)} eV, order ${r.postEdge.order}, ${r.postEdge.points} points${r.postEdge.clipped ? ' (range clipped to the data)' : ''}`);
   const b = r.background;
   lines.push(`background: cutoff ${b.cutoffR} Å, ${b.basisFunctions} cubic B-splines, knot spacing ${b.knotSpacing.toFixed(3)} Å⁻¹, k ${b.kRange[0]}-${b.kRange[1].toFixed(2)} Å⁻¹, k-weight ${b.kWeighting}, clamps ${b.clampLow}/${b.clampHigh} over ${b.clampPoints} points`);

@@ -12,7 +12,8 @@ import { generateVariants, parseVary } from '../../rank/screen';
 import { prepareRanking } from '../../rank/setup';
 import type { CliIo } from '../io';
 import { parseInteger } from '../options';
-import { addRankOptions, executeRanking, parseRankOptions, type RankCliOptions } from './rank';
+import { reductionWarnings } from './fit';
+import { addRankOptions, executeRanking, parseRankOptions, withDataAbsorber, type RankCliOptions } from './rank';
 
 interface ScreenCliOptions extends RankCliOptions {
   vary?: string[];
@@ -30,20 +31,23 @@ export function registerScreen(program: Command, io: CliIo): void {
     .option('--frame <n>', '0-based frame of a multi-frame base file', '0')
     .action(async (dataFile: string, baseFile: string, raw: ScreenCliOptions) => {
       if (!raw.vary || raw.vary.length === 0) throw new InputError('say what to vary (e.g. --vary substitute:O.1=N or --vary strain:-2..2/0.5)', { key: '--vary' });
-      const { options, ranking } = parseRankOptions(raw, io);
+      const parsed = parseRankOptions(raw, io);
+      const { ranking } = parsed;
       const dimensions = raw.vary.map(parseVary);
       const notes: string[] = [];
       // strain hypotheses would be undone by a free expansion factor: fix the distances
       if (dimensions.some((d) => d.kind === 'strain') && raw.distances === undefined) {
-        options.distances = 'fixed';
+        parsed.options.distances = 'fixed';
         notes.push('strain is varied: the refinement keeps every hypothesis\'s distances (no expansion factor); give --distances expand to override');
       }
       // removed neighbours would be absorbed by a free S0^2 for a single shell: fix it
       if (dimensions.some((d) => d.kind === 'remove') && raw.amp === undefined && raw.ampFrom === undefined) {
-        options.amp = 0.9;
+        parsed.options.amp = 0.9;
         notes.push('coordination numbers are varied: S0^2 is fixed at 0.9 (common practice; give --amp VALUE or --amp-from FIT.json for your sample)');
       }
       const data = loadChiOrReduce(resolve(io.cwd, dataFile));
+      const options = withDataAbsorber(parsed.options, data.chi, dataFile);
+      notes.push(...reductionWarnings(data));
       const frame = parseInteger('--frame', raw.frame, 0);
       const refs = frameRefsOfFile(resolve(io.cwd, baseFile), baseFile, { format: raw.format });
       if (frame >= refs.length) throw new InputError(`frame ${frame} does not exist (the file has ${refs.length})`, { file: baseFile, key: '--frame' });

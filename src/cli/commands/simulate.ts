@@ -11,7 +11,7 @@ import { WINDOW_SHAPES, type WindowShape } from '../../numeric/window';
 import type { CliIo } from '../io';
 import { emit, toJson } from '../output';
 import { parseNumber, parseRange } from '../options';
-import { addStructureOptions, parseStructureOptions, type StructureCliOptions } from './structure-options';
+import { addStructureOptions, parseStructureOptions, withoutData, type StructureCliOptions } from './structure-options';
 
 interface SimulateCliOptions extends StructureCliOptions {
   msrd?: string;
@@ -115,7 +115,7 @@ export function registerSimulate(program: Command, io: CliIo): void {
     .option('--json', 'write JSON instead of CSV')
     .option('--out <file>', 'write to this file instead of the terminal')
     .action((file: string, raw: SimulateCliOptions) => {
-      const o = parseStructureOptions(raw);
+      const o = withoutData(parseStructureOptions(raw));
       const providers = defaultProviders({ cache: raw.cache });
       const provider = providers.get(raw.provider);
       if (!(WINDOW_SHAPES as readonly string[]).includes(raw.window)) {

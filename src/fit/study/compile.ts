@@ -36,6 +36,7 @@ import { parseAbsorberSelector } from '../../structure/cluster';
 import { compileExpression, NAME_PATTERN } from '../expressions';
 import { defineParameters, type ParameterSpec } from '../parameters';
 import { loadChiOrReduce, type LoadedChi } from '../exafs/data';
+import { absorberAndEdgeFromData } from '../exafs/absorber-from-data';
 import { checkEdgeMatches } from '../exafs/fit-structure';
 import { buildExafsProblem, type ExafsProblem, type FitDataset, type PathRule } from '../exafs/problem';
 import { groupName } from '../exafs/recipe';
@@ -213,9 +214,12 @@ function loadDataset(study: StudyFile, d: StudyDataset): Omit<LoadedDataset, 'ru
   const loaded = at(study.where(d.origin('structure')), file, () => loadStructureFile(d.structure, { format: d.format }));
   const structure = at(study.where(d.origin('frame')), file, () => pickFrame(loaded, d.frame));
   const absorberWhere = study.where(d.origin('absorber'));
-  const selector = at(absorberWhere, file, () => parseAbsorberSelector(d.absorber));
+  const given = at(absorberWhere, file, () => ({ absorber: d.absorber !== undefined ? parseAbsorberSelector(d.absorber) : undefined, edge: d.edge }));
+  const clash = d.edge !== undefined && data.chi.edge !== null && d.edge !== data.chi.edge;
+  const { absorber, edge } = at(study.where(d.origin(clash ? 'edge' : 'absorber')), file, () =>
+    absorberAndEdgeFromData(data.chi, given, d.data, { absorber: 'absorber', edge: 'edge' }));
   const pathSet = at(absorberWhere, file, () =>
-    shellsOfStructure(structure, { absorber: selector, radius: d.radius, tolerance: d.tolerance, edge: d.edge, structureHash: loaded.sha256 }));
+    shellsOfStructure(structure, { absorber, radius: d.radius, tolerance: d.tolerance, edge, structureHash: loaded.sha256 }));
   if (pathSet.paths.length === 0) throw new InputError(`the structure has no neighbour of the absorber within ${d.radius} Å`, absorberWhere);
   at(absorberWhere, file, () => checkEdgeMatches(data.chi, pathSet, d.data));
   // the data must cover the k range (the same test as buildExafsProblem, located in the study)

@@ -41,8 +41,10 @@ export interface StudyDataset {
   structure: string;
   format?: string;
   frame: number;
-  absorber: string;
-  edge: EdgeName;
+  /** Undefined: the element the data file names. */
+  absorber?: string;
+  /** Undefined: the data file's edge (else K). */
+  edge?: EdgeName;
   radius: number;
   tolerance: number;
   temperature?: number;
@@ -111,14 +113,14 @@ function mergeDatasets(input: StudyInput, where: (path: KeyPath) => InputLocatio
       return ['datasets', index];
     };
     const pick = <K extends keyof typeof defaults>(key: K): (typeof defaults)[K] => (d[key] !== undefined ? d[key] : defaults[key]);
-    const need = (key: 'data' | 'structure' | 'absorber'): string => {
+    const need = (key: 'data' | 'structure'): string => {
       const v = pick(key);
       if (v === undefined) throw new InputError(`needs '${key}' (here or under defaults)`, where(['datasets', index]));
       return v;
     };
     const data = need('data');
     const structure = need('structure');
-    const absorber = need('absorber');
+    const absorber = pick('absorber');
     let name = d.name;
     if (name === undefined) {
       const base = baseName(data);
@@ -139,7 +141,7 @@ function mergeDatasets(input: StudyInput, where: (path: KeyPath) => InputLocatio
       format: pick('format'),
       frame: pick('frame') ?? 0,
       absorber,
-      edge: (pick('edge') ?? 'K') as EdgeName,
+      edge: pick('edge') as EdgeName | undefined,
       radius: pick('radius') ?? STUDY_DEFAULT_RADIUS,
       tolerance: pick('tolerance') ?? STUDY_DEFAULT_TOLERANCE,
       temperature: pick('temperature'),

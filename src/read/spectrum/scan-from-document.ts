@@ -182,17 +182,28 @@ export function scanFromDocument(doc: SpectrumDocument, options: ScanReadOptions
     muReference = Float64Array.from(columns[roles.muReference!]);
   }
 
-  // ---- element and edge
-  const symbolText = options.element ?? fieldValue(doc.fields, 'Element.symbol');
-  const element = symbolText !== undefined ? canonicalSymbol(symbolText) : null;
-  if (options.element !== undefined && element === null) throw new InputError(`'${options.element}' is not an element symbol`, { key: 'element' });
-  const edgeText = options.edge ?? fieldValue(doc.fields, 'Element.edge');
-  let edge: EdgeName | null = null;
-  if (edgeText !== undefined) {
-    const upper = edgeText.trim().toUpperCase();
-    if ((EDGE_NAMES as readonly string[]).includes(upper)) edge = upper as EdgeName;
-    else if (upper === 'L') edge = 'L3';
+  // ---- element and edge: the file's, or the options' where the file says nothing usable. An
+  // option that contradicts a usable header field is refused: one of the two is wrong, and a
+  // reduction or model of the wrong edge gives no error of its own.
+  const headerSymbolText = fieldValue(doc.fields, 'Element.symbol');
+  const headerSymbol = headerSymbolText !== undefined ? canonicalSymbol(headerSymbolText) : null;
+  const givenSymbol = options.element !== undefined ? canonicalSymbol(options.element) : null;
+  if (options.element !== undefined && givenSymbol === null) throw new InputError(`'${options.element}' is not an element symbol`, { key: 'element' });
+  if (givenSymbol !== null && headerSymbol !== null && givenSymbol !== headerSymbol) {
+    throw new InputError(`the element given (${givenSymbol}) clashes with the file's Element.symbol ${headerSymbol}; leave it out to use the file's`, { file, key: 'element' });
   }
+  const element = givenSymbol ?? headerSymbol;
+  const headerEdgeText = fieldValue(doc.fields, 'Element.edge');
+  let headerEdge: EdgeName | null = null;
+  if (headerEdgeText !== undefined) {
+    const upper = headerEdgeText.trim().toUpperCase();
+    if ((EDGE_NAMES as readonly string[]).includes(upper)) headerEdge = upper as EdgeName;
+  }
+  if (options.edge !== undefined && headerEdge !== null && options.edge !== headerEdge) {
+    throw new InputError(`the edge given (${options.edge}) clashes with the file's Element.edge ${headerEdge}; leave it out to use the file's`, { file, key: 'edge' });
+  }
+  // a bare "L" is read as L3, the strongest L edge, unless an edge is given
+  const edge: EdgeName | null = options.edge ?? headerEdge ?? (headerEdgeText?.trim().toUpperCase() === 'L' ? 'L3' : null);
 
   // ---- channels and ordering
   const channelMap: Record<string, Float64Array> = {};
