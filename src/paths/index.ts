@@ -1,8 +1,9 @@
 /**
- * From a Structure to a PathSet: clusters around the absorber sites, shells, and the
- * environments of the scatterer species (neighbours of the nearest atom of each species).
+ * From a Structure to a PathSet: clusters around the absorber sites (in a finite cluster only
+ * those with complete shells, see `selectAbsorberSites`), shells, and the environments of the
+ * scatterer species (neighbours of the nearest atom of each species).
  */
-import { buildClusters, type AbsorberSelector } from '../structure/cluster';
+import { buildClusters, selectAbsorberSites, type AbsorberSelector } from '../structure/cluster';
 import type { Structure } from '../structure/structure';
 import type { EdgeName } from '../elements/index';
 import { buildPathSet, type PathSet } from './pathset';
@@ -23,7 +24,9 @@ export interface ShellsOfStructureOptions {
 }
 
 export function shellsOfStructure(structure: Structure, options: ShellsOfStructureOptions): PathSet {
-  const clusters = buildClusters(structure, { absorber: options.absorber, radius: options.radius });
+  // a finite cluster averages only the absorber sites whose shells are complete
+  const selection = selectAbsorberSites(structure, options.absorber, options.radius ?? 6);
+  const clusters = buildClusters(structure, { absorber: options.absorber, radius: options.radius, sites: selection.used });
   const environmentRadius = options.environmentRadius ?? 5;
   // one representative of each scatterer species: its nearest atom to the first absorber site
   const scattererClusters: Record<string, Cluster> = {};
@@ -36,8 +39,9 @@ export function shellsOfStructure(structure: Structure, options: ShellsOfStructu
     const [around] = buildClusters(structure, { absorber: { index: first.sourceIndex[i] }, radius: environmentRadius });
     scattererClusters[s] = around;
   }
-  return buildPathSet(
+  const set = buildPathSet(
     { clusters, scattererClusters, structureHash: options.structureHash, structureFile: structure.info.file },
     { tolerance: options.tolerance, edge: options.edge, environmentRadius },
   );
+  return selection.warning ? { ...set, warnings: [selection.warning] } : set;
 }

@@ -43,6 +43,8 @@ export interface PathSet {
   paths: ScatteringPath[];
   /** Neighbour shells around the absorber and around each scatterer species (for cluster potentials). */
   environment: { absorber: NeighbourSpec[]; scatterers: Record<string, NeighbourSpec[]> };
+  /** Warnings about the site average (e.g. surface sites of a finite cluster left out). */
+  warnings?: string[];
   provenance: Provenance;
 }
 

@@ -92,12 +92,107 @@ export function parseAbsorberSelector(text: string): AbsorberSelector {
   return { label: t };
 }
 
-/** Build one cluster per selected absorber site. */
-export function buildClusters(structure: Structure, options: ClusterOptions): Cluster[] {
+/** Which of the selected absorber sites a site average uses, and why. */
+export interface AbsorberSelection {
+  /** Indices of the absorber atoms used. */
+  used: number[];
+  /** Selected sites left out because their shells are cut by the cluster's surface. */
+  excluded: number;
+  /** True when no site had complete shells and the deepest one was used alone. */
+  fallback: boolean;
+  /** A warning for the user (null when every selected site was used). */
+  warning: string | null;
+}
+
+/**
+ * Search directions for the surface depth: the 26 directions of the faces, edges and corners of
+ * a cube (exact for box-shaped cuts) and 240 spread over the sphere (Fibonacci lattice; common
+ * practice, no source).
+ */
+function depthDirections(): Float64Array {
+  const dirs: number[] = [];
+  for (let x = -1; x <= 1; x++) for (let y = -1; y <= 1; y++) for (let z = -1; z <= 1; z++) {
+    if (x === 0 && y === 0 && z === 0) continue;
+    const n = Math.hypot(x, y, z);
+    dirs.push(x / n, y / n, z / n);
+  }
+  const count = 240;
+  const golden = Math.PI * (3 - Math.sqrt(5));
+  for (let i = 0; i < count; i++) {
+    const y = 1 - ((i + 0.5) / count) * 2;
+    const r = Math.sqrt(1 - y * y);
+    dirs.push(Math.cos(i * golden) * r, y, Math.sin(i * golden) * r);
+  }
+  return Float64Array.from(dirs);
+}
+
+/**
+ * Depth of each given atom below the surface of a finite cluster: the smallest distance from the
+ * atom to a supporting plane of the cluster, min over directions u of h(u) - p.u with
+ * h(u) = max_j x_j.u over the occupied atoms (the support function of the convex hull, sampled
+ * in the directions of `depthDirections`; slightly optimistic between directions).
+ */
+export function surfaceDepths(structure: Structure, indices: readonly number[]): Float64Array {
+  const dirs = depthDirections();
+  const nd = dirs.length / 3;
+  const h = new Float64Array(nd).fill(-Infinity);
+  const p = structure.positions;
+  for (let j = 0; j < structure.species.length; j++) {
+    if (!(structure.occupancy[j] > 0)) continue;
+    const x = p[3 * j], y = p[3 * j + 1], z = p[3 * j + 2];
+    for (let d = 0; d < nd; d++) {
+      const v = x * dirs[3 * d] + y * dirs[3 * d + 1] + z * dirs[3 * d + 2];
+      if (v > h[d]) h[d] = v;
+    }
+  }
+  return Float64Array.from(indices, (i) => {
+    let depth = Infinity;
+    for (let d = 0; d < nd; d++) {
+      depth = Math.min(depth, h[d] - (p[3 * i] * dirs[3 * d] + p[3 * i + 1] * dirs[3 * d + 1] + p[3 * i + 2] * dirs[3 * d + 2]));
+    }
+    return depth;
+  });
+}
+
+/**
+ * The absorber sites to average. In a periodic structure, and for a single chosen atom, every
+ * selected site. In a finite cluster, a site near the surface has shells cut short (an fcc
+ * surface atom has fewer than 12 nearest neighbours), so averaging it in lowers every
+ * coordination number: only sites deeper below the surface than the radius are used (their
+ * shells within the radius are complete), or, when there is none, the deepest site alone.
+ */
+export function selectAbsorberSites(structure: Structure, selector: AbsorberSelector, radius: number): AbsorberSelection {
+  const selected = selectAbsorbers(structure, selector);
+  if (structure.lattice || selected.length === 1) return { used: selected, excluded: 0, fallback: false, warning: null };
+  const depths = surfaceDepths(structure, selected);
+  // 1e-6 Å: an atom exactly on the surface at the radius still belongs to a complete shell
+  const used = selected.filter((_, i) => depths[i] >= radius - 1e-6);
+  const where = structure.info.file ? `${structure.info.file}: ` : '';
+  if (used.length === selected.length) return { used, excluded: 0, fallback: false, warning: null };
+  if (used.length > 0) {
+    return {
+      used, excluded: selected.length - used.length, fallback: false,
+      warning: `${where}finite cluster: averaged ${used.length} of ${selected.length} absorber sites, those more than ${radius} Å below the surface (atoms ${listOf(used)}); the other ${selected.length - used.length} have incomplete shells`,
+    };
+  }
+  let best = 0;
+  for (let i = 1; i < selected.length; i++) if (depths[i] > depths[best]) best = i;
+  return {
+    used: [selected[best]], excluded: selected.length - 1, fallback: true,
+    warning: `${where}finite cluster: no absorber site lies ${radius} Å below the surface; used the deepest one alone (atom ${selected[best]}, ${depths[best].toFixed(2)} Å deep), whose outer shells may still be incomplete`,
+  };
+}
+
+function listOf(indices: readonly number[]): string {
+  return indices.length <= 8 ? indices.join(', ') : `${indices.slice(0, 8).join(', ')}, ... (${indices.length})`;
+}
+
+/** Build one cluster per selected absorber site (all of them; see `selectAbsorberSites`). */
+export function buildClusters(structure: Structure, options: ClusterOptions & { sites?: readonly number[] }): Cluster[] {
   const radius = options.radius ?? 6;
   if (!(radius > 0) || !Number.isFinite(radius)) throw new InputError(`the radius must be a positive number of Å, got ${radius}`, { key: '--radius' });
   const siteTolerance = options.siteTolerance ?? 0.1;
-  const absorbers = selectAbsorbers(structure, options.absorber);
+  const absorbers = options.sites ?? selectAbsorbers(structure, options.absorber);
   const search = structure.lattice ? periodicSearch(structure, radius) : finiteSearch(structure, radius);
   return absorbers.map((index) => {
     const p = structure.positions;
