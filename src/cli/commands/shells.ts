@@ -4,7 +4,7 @@ import { loadStructureFile, pickFrame } from '../../read/load-structure';
 import { shellsOfStructure, type PathSet } from '../../paths/index';
 import type { CliIo } from '../io';
 import { emit, textTable, toJson } from '../output';
-import { addStructureOptions, parseStructureOptions, type StructureCliOptions } from './structure-options';
+import { addStructureOptions, parseStructureOptions, withoutData, type StructureCliOptions } from './structure-options';
 
 /** The JSON document of `shells --json` (documented in the README). */
 export function shellsDocument(set: PathSet, file: string) {
@@ -30,7 +30,7 @@ export function registerShells(program: Command, io: CliIo): void {
     .option('--json', 'write JSON instead of a table')
     .option('--out <file>', 'write to this file instead of the terminal')
     .action((file: string, raw: StructureCliOptions & { json?: boolean; out?: string }) => {
-      const o = parseStructureOptions(raw);
+      const o = withoutData(parseStructureOptions(raw));
       const loaded = loadStructureFile(file, { format: o.format });
       const structure = pickFrame(loaded, o.frame);
       const set = shellsOfStructure(structure, { absorber: o.absorber, radius: o.radius, tolerance: o.tolerance, edge: o.edge, structureHash: loaded.sha256 });
