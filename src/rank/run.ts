@@ -23,7 +23,7 @@ import type { FitStats } from '../fit/exafs/refine';
 import type { Candidate } from './candidates';
 import type { CandidateRecord, RankJob, Stage } from './evaluate';
 import { CandidatePool } from './pool';
-import { forEachRecord, StreamWriter, type RecordRef, type StreamHeader } from './stream';
+import { forEachRecord, StreamWriter, writerLock, type RecordRef, type StreamHeader } from './stream';
 import {
   equivalentSignatures, rankCandidates, VERDICT_BEST, VERDICT_INDISTINGUISHABLE,
   type RankedCandidate, type RankingOptions, type ResolvedShell, type ScoredCandidate, type SignificanceTest,
@@ -143,11 +143,17 @@ export async function runRanking(input: RunInput): Promise<RunOutcome> {
   const listId = candidateListId(input.candidates);
   const prescreenStream = streamPath(input.streamDir, input.job.settingsHash, listId, 'prescreen', shard);
   const refineStream = streamPath(input.streamDir, input.job.settingsHash, listId, 'refine', shard);
-  const pool = new CandidatePool(input.job, input.workers);
+  // one writer per folder (per shard when shards share a folder)
+  const lock = writerLock(input.streamDir, shard && shard.count > 1 ? `shellrank.shard-${shard.index}-of-${shard.count}.lock` : 'shellrank.lock');
   try {
-    return await runStages(input, pool, mine, prescreenStream, refineStream);
+    const pool = new CandidatePool(input.job, input.workers);
+    try {
+      return await runStages(input, pool, mine, prescreenStream, refineStream);
+    } finally {
+      await pool.close();
+    }
   } finally {
-    await pool.close();
+    lock.release();
   }
 }
 

@@ -11,10 +11,17 @@
  * Each record is written with one write call as soon as it is known (in candidate order), so a
  * killed run leaves complete lines plus at most one cut line, which the next run drops. A record
  * is identified by its candidate key and the settings hash; a run with other settings refuses to
- * append to the file.
+ * append to the file. Resuming always recovers: lines that are not complete records of this
+ * stream (a cut line, a damaged line, a record of other settings) and repeated records of a
+ * candidate are dropped, the file rewritten atomically when anything was dropped.
+ *
+ * One writer at a time: a run holds a lock file in the folder (`writerLock`) naming its process
+ * id, host and start time; a lock left by a process that no longer runs on this host is taken
+ * over, a live one (or one from another host, which cannot be checked) is refused.
  */
-import { closeSync, existsSync, ftruncateSync, fstatSync, mkdirSync, openSync, readSync, writeSync } from 'node:fs';
-import { dirname } from 'node:path';
+import { closeSync, existsSync, fsyncSync, ftruncateSync, fstatSync, mkdirSync, openSync, readFileSync, readSync, renameSync, unlinkSync, writeSync } from 'node:fs';
+import { hostname } from 'node:os';
+import { dirname, join } from 'node:path';
 import { InputError } from '../core/errors';
 import type { CandidateRecord, CandidateSettings, Stage } from './evaluate';
 
@@ -137,7 +144,11 @@ export function readRecordAt(ref: RecordRef): CandidateRecord {
 
 /** An open stream file being appended to. */
 export class StreamWriter {
-  private constructor(private fd: number, readonly path: string, readonly done: ReadonlySet<string>) {}
+  /**
+   * @param dropped lines dropped when resuming (damaged, of other settings, or repeating a
+   *   candidate already recorded).
+   */
+  private constructor(private fd: number, readonly path: string, readonly done: ReadonlySet<string>, readonly dropped: number) {}
 
   /**
    * Open a stream for appending: a new file gets the header; an existing one must have the same
@@ -152,27 +163,49 @@ export class StreamWriter {
       if (existing.stage !== header.stage || existing.settingsHash !== header.settingsHash || existing.candidateList !== header.candidateList) {
         throw new InputError(`holds ${existing.stage} results of settings ${existing.settingsHash} for candidates ${existing.candidateList}, not ${header.stage} of ${header.settingsHash} for ${header.candidateList}; use another output folder`, { file: path });
       }
+      // keep the header and the first complete record of each candidate; drop everything else
+      const kept: { start: number; end: number }[] = [];
+      let dropped = 0;
       let keep = 0;
       let line = 0;
-      forEachLine(path, (text, _start, end, complete) => {
+      forEachLine(path, (text, start, end, complete) => {
         line++;
-        if (!complete) return;
-        keep = end;
-        if (line === 1 || text.trim() === '') return;
-        try {
-          done.add((JSON.parse(text) as CandidateRecord).key);
-        } catch {
-          throw new InputError('a record line is not valid JSON', { file: path, line });
+        if (line === 1) {
+          if (complete) kept.push({ start, end });
+          keep = end;
+          return;
         }
+        if (text.trim() === '') {
+          if (complete) dropped++;
+          return;
+        }
+        let record: CandidateRecord | null = null;
+        try {
+          record = complete ? (JSON.parse(text) as CandidateRecord) : null;
+        } catch {
+          record = null;
+        }
+        const fits = record !== null && typeof record === 'object' && typeof record.key === 'string' && record.settingsHash === existing.settingsHash;
+        if (!fits || done.has((record as CandidateRecord).key)) {
+          if (complete) dropped++;
+          return;
+        }
+        done.add((record as CandidateRecord).key);
+        kept.push({ start, end });
+        if (dropped === 0) keep = end;
       });
-      const fd = openSync(path, 'r+');
-      if (fstatSync(fd).size > keep) ftruncateSync(fd, keep);
-      closeSync(fd);
-      return new StreamWriter(openSync(path, 'a'), path, done);
+      if (kept.length === 0) throw new InputError('the header line is cut short; remove the file to start over', { file: path, line: 1 });
+      if (dropped > 0) rewriteLines(path, kept);
+      else {
+        const fd = openSync(path, 'r+');
+        if (fstatSync(fd).size > keep) ftruncateSync(fd, keep);
+        closeSync(fd);
+      }
+      return new StreamWriter(openSync(path, 'a'), path, done, dropped);
     }
     const fd = openSync(path, 'a');
     writeSync(fd, `${JSON.stringify(header)}\n`);
-    return new StreamWriter(fd, path, done);
+    return new StreamWriter(fd, path, done, 0);
   }
 
   /** Append one record as one line (one write call). */
@@ -186,4 +219,105 @@ export class StreamWriter {
       this.fd = -1;
     }
   }
+}
+
+/** Rewrite a file keeping only the given byte ranges (temporary file, fsync, rename). */
+function rewriteLines(path: string, ranges: readonly { start: number; end: number }[]): void {
+  const temporary = `${path}.repair-${process.pid}`;
+  const input = openSync(path, 'r');
+  const output = openSync(temporary, 'w');
+  try {
+    for (const r of ranges) {
+      const buffer = Buffer.alloc(r.end - r.start);
+      readSync(input, buffer, 0, buffer.length, r.start);
+      writeSync(output, buffer);
+    }
+    fsyncSync(output);
+  } finally {
+    closeSync(input);
+    closeSync(output);
+  }
+  renameSync(temporary, path);
+}
+
+/** Who holds a writer lock. */
+export interface LockHolder {
+  pid: number;
+  host: string;
+  started: string;
+}
+
+/** A held writer lock; `release` removes it (once). */
+export interface WriterLock {
+  path: string;
+  release(): void;
+}
+
+function processRuns(pid: number): boolean {
+  try {
+    process.kill(pid, 0);
+    return true;
+  } catch (error) {
+    // EPERM: the process exists but belongs to someone else
+    return (error as NodeJS.ErrnoException).code === 'EPERM';
+  }
+}
+
+function readHolder(path: string): LockHolder | null {
+  try {
+    const h = JSON.parse(readFileSync(path, 'utf8')) as LockHolder;
+    return Number.isInteger(h.pid) && typeof h.host === 'string' ? h : null;
+  } catch {
+    return null;
+  }
+}
+
+/**
+ * Take the writer lock `name` of a folder (created exclusively, holding this process's id, host
+ * and start time). A lock whose holder no longer runs on this host (or that cannot be read) is
+ * stale and taken over.
+ * @throws InputError naming the holder when another live run (or a run on another host) holds it.
+ */
+export function writerLock(dir: string, name = 'shellrank.lock'): WriterLock {
+  mkdirSync(dir, { recursive: true });
+  const path = join(dir, name);
+  const me: LockHolder = { pid: process.pid, host: hostname(), started: new Date().toISOString() };
+  for (let attempt = 0; attempt < 5; attempt++) {
+    try {
+      const fd = openSync(path, 'wx');
+      try {
+        writeSync(fd, `${JSON.stringify(me)}\n`);
+      } finally {
+        closeSync(fd);
+      }
+      let released = false;
+      return {
+        path,
+        release() {
+          if (released) return;
+          released = true;
+          const h = readHolder(path);
+          if (h && h.pid === me.pid && h.host === me.host && h.started === me.started) unlinkSync(path);
+        },
+      };
+    } catch (error) {
+      if ((error as NodeJS.ErrnoException).code !== 'EEXIST') throw error;
+    }
+    const holder = readHolder(path);
+    if (holder && holder.host !== me.host) {
+      throw new InputError(`is being written by process ${holder.pid} on host ${holder.host} (since ${holder.started}); if that run has ended, remove ${path}`, { file: dir });
+    }
+    if (holder && processRuns(holder.pid)) {
+      throw new InputError(`is being written by process ${holder.pid} on this host (since ${holder.started}); wait for it or use another output folder`, { file: dir });
+    }
+    // stale: move it aside under a name of our own, so two runs recovering it do not both win
+    const aside = `${path}.stale-${process.pid}`;
+    try {
+      renameSync(path, aside);
+      unlinkSync(aside);
+    } catch (error) {
+      if ((error as NodeJS.ErrnoException).code !== 'ENOENT') throw error;
+    }
+  }
+  throw new InputError(`cannot take the writer lock ${path} (it keeps changing hands)`, { file: dir });
 }
