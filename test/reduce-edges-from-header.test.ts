@@ -124,6 +124,35 @@ describe('fit takes the absorber and edge from the data', () => {
     expect(doc.shells[0].r0).toBeCloseTo(4.445 / 2, 3);
     expect(run.stderr).toMatch(/warning: .*MnO_rt_01\.xdi: short pre-edge: .*fitted over E0 -\d+\.\d to -5\.0 eV \(\d+ points\)/);
   });
+  it('a saved reduction with no edge takes --edge: Au data fitted with L2 tables (2p -> d like L3) also give the first shell within 0.02 Å', async () => {
+    const dir = tmp();
+    const saved = join(dir, 'au.chi.json');
+    expect((await cli(['reduce', AU, '--out', saved])).code).toBe(0);
+    const doc = JSON.parse(readFileSync(saved, 'utf8'));
+    doc.edge = null;
+    writeFileSync(saved, JSON.stringify(doc));
+    const run = await cli(['fit', saved, AU_FCC, '--edge', 'L2', '--amp', 'free', '--k', '3:12', '--r', '1.8:3.2', '--json']);
+    expect(run.code).toBe(0);
+    const fit = JSON.parse(run.stdout);
+    expect(Math.abs(fit.shells[0].r.value - AU_R1)).toBeLessThan(0.02);
+  });
+  it('a study file with no absorber and no edge fits the Au L3 foil as Au L3', async () => {
+    const dir = tmp();
+    const study = join(dir, 'au.study.yaml');
+    writeFileSync(study, [
+      'parameters:',
+      '  amp: { value: 0.9, bounds: [0.3, 1.5] }',
+      '  e0: { value: 0, bounds: [-15, 15] }',
+      'datasets:',
+      `  - { data: ${JSON.stringify(AU)}, structure: ${JSON.stringify(AU_FCC)}, k: 3:12, r: 1.8:3.2 }`,
+    ].join('\n') + '\n');
+    const run = await cli(['run', study, '--json']);
+    expect(run.code).toBe(0);
+    const doc = JSON.parse(run.stdout);
+    expect(doc.structure?.absorber ?? doc.datasets?.[0]?.structure?.absorber).toBe('Au');
+    expect(doc.data?.edge ?? doc.datasets?.[0]?.data?.edge).toBe('L3');
+    expect(Math.abs(doc.shells[0].r.value - AU_R1)).toBeLessThan(0.02);
+  });
   it('data that name no element need --absorber', async () => {
     const dir = tmp();
     const file = join(dir, 'no-element.dat');
