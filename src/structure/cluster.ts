@@ -187,12 +187,15 @@ function listOf(indices: readonly number[]): string {
   return indices.length <= 8 ? indices.join(', ') : `${indices.slice(0, 8).join(', ')}, ... (${indices.length})`;
 }
 
-/** Build one cluster per selected absorber site (all of them; see `selectAbsorberSites`). */
+/**
+ * Build one cluster per absorber site: the given `sites`, else those `selectAbsorberSites` picks
+ * (in a finite cluster only the sites with complete shells; call it to get its warning).
+ */
 export function buildClusters(structure: Structure, options: ClusterOptions & { sites?: readonly number[] }): Cluster[] {
   const radius = options.radius ?? 6;
   if (!(radius > 0) || !Number.isFinite(radius)) throw new InputError(`the radius must be a positive number of Å, got ${radius}`, { key: '--radius' });
   const siteTolerance = options.siteTolerance ?? 0.1;
-  const absorbers = options.sites ?? selectAbsorbers(structure, options.absorber);
+  const absorbers = options.sites ?? selectAbsorberSites(structure, options.absorber, radius).used;
   const search = structure.lattice ? periodicSearch(structure, radius) : finiteSearch(structure, radius);
   return absorbers.map((index) => {
     const p = structure.positions;
