@@ -17,6 +17,11 @@
  * - A weak smoothing term, `regularisation` times the rows (norm_i - mu0(k_i)), keeps the
  *   coefficients that the windowed transform barely sees (near k = 0 where k^w vanishes)
  *   close to a plain least-squares spline through the data instead of undetermined.
+ * - Optional standard (same paper): a theoretical chi_std(k) on the same grid; the
+ *   transform rows then take norm - chi_std, so the low-R part of chi(R) is made to match that of
+ *   the standard instead of zero. A short first shell (metal-oxygen ~1.9-2.0 Å) leaks through the
+ *   window and the k-weight below R_bkg; driven to zero, that leak is taken into mu0 and shifts
+ *   the fitted shell. With the fitted model as standard the leak stays in chi.
  */
 import { windowOnGrid, type WindowShape } from '../numeric/window';
 import { basisAt, evaluateSpline, uniformCubicBasis, type UniformCubicBasis } from './bspline';
@@ -81,7 +86,7 @@ export interface BackgroundFit {
  * @param k uniform grid (1/Å), increasing, e.g. 0, 0.05, ... .
  * @param norm normalised mu on that grid.
  */
-export function fitBackground(k: Float64Array, norm: Float64Array, settings: BackgroundSettings): BackgroundFit {
+export function fitBackground(k: Float64Array, norm: Float64Array, settings: BackgroundSettings, standard: Float64Array | null = null): BackgroundFit {
   const n = k.length;
   const dk = k[1] - k[0];
   const kMin = Math.max(settings.kMin, k[0]);
@@ -131,8 +136,9 @@ export function fitBackground(k: Float64Array, norm: Float64Array, settings: Bac
       if (gi !== 0) {
         const c = gi * cr;
         const s = gi * sr;
-        b[re] += c * norm[i];
-        b[im] += s * norm[i];
+        const target = standard ? norm[i] - standard[i] : norm[i];
+        b[re] += c * target;
+        b[im] += s * target;
         const f = firstBasis[i];
         const v4 = 4 * i;
         for (let q = 0; q < 4; q++) {

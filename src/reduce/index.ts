@@ -5,6 +5,7 @@ export { reduceScan, resolveReductionSettings, MIN_K_POINTS, type Reduction, typ
 export { makeChi, chiToJson, chiFromJson, CHI_K_STEP, CHI_FORMAT, CHI_FORMAT_VERSION, type Chi, type ChiInit, type NormalisedSpectrum, type ChiSource } from './chi';
 export { findE0, smoothedDerivative, normalise, DEFAULT_NORMALISATION, type E0Report, type NormalisationSettings, type Normalisation } from './edge';
 export { fitBackground, DEFAULT_BACKGROUND, type BackgroundSettings, type BackgroundFit } from './background';
+export { refineBackgroundWithModel, type StandardIteration, type StandardIterationOptions } from './background-standard';
 export { estimateNoise, DEFAULT_NOISE, type NoiseSettings, type NoiseEstimate } from './noise';
 export { calibrateScan, type CalibrationResult, type CalibrationOptions } from './calibrate';
 export { mergeScans, pointNoise, DEFAULT_MERGE, type MergeSettings, type MergeResult } from './merge';

@@ -54,6 +54,12 @@ export interface ReductionOptions {
   noise?: Partial<NoiseSettings>;
   glitches?: Partial<GlitchSettings>;
   calibrate?: boolean;
+  /**
+   * A theoretical chi(k) on the reduction's k grid (k_i = i / 20 1/Å, from 0): the background then
+   * makes the low-R transform of chi match that of this standard instead of zero (Newville et al.
+   * 1993), so the tail of a short first shell below R_bkg is not taken into the background.
+   */
+  standard?: Float64Array | null;
 }
 
 /**
@@ -93,6 +99,14 @@ function pointsBetween(energy: Float64Array, lo: number, hi: number): number {
   let n = 0;
   for (let i = 0; i < energy.length; i++) if (energy[i] >= lo && energy[i] <= hi) n++;
   return n;
+}
+
+/** The standard padded with zeros (or cut) to the k grid's length; null when none is given. */
+function standardOnGrid(standard: Float64Array | null | undefined, points: number): Float64Array | null {
+  if (!standard) return null;
+  const out = new Float64Array(points);
+  out.set(standard.subarray(0, Math.min(points, standard.length)));
+  return out;
 }
 
 /** The standard padded with zeros (or cut) to the k grid's length; null when none is given. */
@@ -264,7 +278,7 @@ export function reduceScan(input: Scan, options: ReductionOptions = {}): Reducti
     eOfK[i] = e0 + (k[i] * k[i]) / K2_PER_EV;
   }
   const normK = interpolateCubic(energy, firstNorm.normalised, eOfK);
-  const bkg = fitBackground(k, normK, settings.background);
+  const bkg = fitBackground(k, normK, settings.background, standardOnGrid(options.standard, points));
 
   // background on the measured energies, in mu units
   const background = new Float64Array(energy.length);
@@ -310,6 +324,7 @@ export function reduceScan(input: Scan, options: ReductionOptions = {}): Reducti
       clampHigh: settings.background.clampHigh,
       clampPoints: settings.background.clampPoints,
       regularisation: settings.background.regularisation,
+      standard: options.standard ? 'theoretical chi(k) given: the low-R transform is matched to it' : null,
       lowRPoints: bkg.rPoints,
       lowRBefore: bkg.lowRBefore,
       lowRAfter: bkg.lowRAfter,
