@@ -67,6 +67,11 @@ describe('shellrank rank', () => {
     for (const key of ['rFactor', 'chiSquare', 'reducedChiSquare', 'nIndependent', 'nVaried', 'aic', 'bic']) expect(typeof best.stats[key]).toBe('number');
     expect(Object.keys(best.fit)).toEqual(expect.arrayContaining(['status', 'stats', 'params', 'shells', 'recipe', 'curves']));
     expect(best.fit.recipe.join(' ')).toMatch(/free parameters for .* independent points/);
+    // each refined record carries its plausibility warnings (src/fit/exafs/plausibility.ts), their messages also in its warnings
+    for (const c of doc.candidates.filter((x: { stage: string }) => x.stage === 'refine')) {
+      expect(Array.isArray(c.fit.plausibility)).toBe(true);
+      for (const w of c.fit.plausibility.filter((x: { code: string }) => x.code !== 'at-bound' && x.code !== 'not-converged')) expect(c.fit.warnings).toContain(w.message);
+    }
     // N_idp = 2 Dk DR / pi + 2 for k 3-14, R 1.2-3.6 (Stern, Phys. Rev. B 48, 9825 (1993))
     // (the JSON keeps 10 significant digits)
     expect(best.stats.nIndependent).toBeCloseTo((2 * 11 * 2.4) / Math.PI + 2, 7);

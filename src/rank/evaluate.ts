@@ -299,6 +299,7 @@ function evaluateRefine(ctx: EvaluationContext, components: ComponentShells[], s
     })),
     correlations: result.correlations,
     warnings: result.warnings,
+    plausibility: result.plausibility,
     recipe: recipe.description,
     // unweighted chi(k) of data, model and each shell, in the shape of the fit document's curves
     curves: result.curves.map((c) => ({
