@@ -109,14 +109,6 @@ function standardOnGrid(standard: Float64Array | null | undefined, points: numbe
   return out;
 }
 
-/** The standard padded with zeros (or cut) to the k grid's length; null when none is given. */
-function standardOnGrid(standard: Float64Array | null | undefined, points: number): Float64Array | null {
-  if (!standard) return null;
-  const out = new Float64Array(points);
-  out.set(standard.subarray(0, Math.min(points, standard.length)));
-  return out;
-}
-
 /** Fewest chi(k) grid points above E0 a reduction accepts (2 1/Å of data). */
 export const MIN_K_POINTS = 40;
 
