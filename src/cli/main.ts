@@ -7,11 +7,16 @@
 import { Command, CommanderError } from 'commander';
 import { ComputationError, EXIT_CODES, InputError } from '../core/errors';
 import { SHELLRANK_VERSION } from '../core/provenance';
-import { COMMANDS } from './commands/index';
+import { COMMANDS, type CommandEntry } from './commands/index';
 import type { CliIo } from './io';
 import { escapeForTerminal } from './terminal-text';
 
-export function buildProgram(io: CliIo): Command {
+/**
+ * The program with the commands that `argv` needs: only the named command when there is one
+ * (its module and libraries are all that load), none for a bare `--version`, every command for the
+ * full help, no arguments or an unknown command (commander then lists or suggests them).
+ */
+export async function buildProgram(io: CliIo, argv: readonly string[] = []): Promise<Command> {
   const program = new Command();
   program
     .name('shellrank')
@@ -24,15 +29,25 @@ export function buildProgram(io: CliIo): Command {
       writeErr: (s) => io.stderr(s),
     })
     .exitOverride();
-  for (const register of COMMANDS) register(program, io);
+  for (const entry of commandsFor(argv)) (await entry.load())(program, io);
   return program;
+}
+
+function commandsFor(argv: readonly string[]): readonly CommandEntry[] {
+  // the program's own options (--debug, --version, --help) take no value, so the first word that
+  // is not an option is the command
+  const verb = argv.find((a) => !a.startsWith('-'));
+  const named = COMMANDS.find((c) => c.name === verb);
+  if (named) return [named];
+  const versionOnly = verb === undefined && argv.some((a) => a === '--version' || a === '-V') && !argv.some((a) => a === '--help' || a === '-h');
+  return versionOnly ? [] : COMMANDS;
 }
 
 /** Run the CLI with argv (without node and script); resolves to the exit code. */
 export async function runCli(argv: readonly string[], io: CliIo): Promise<number> {
-  const program = buildProgram(io);
   const debug = argv.includes('--debug');
   try {
+    const program = await buildProgram(io, argv);
     await program.parseAsync([...argv], { from: 'user' });
     return EXIT_CODES.ok;
   } catch (error) {

@@ -11,7 +11,6 @@ import { fitStructure, DEFAULT_FIT_SETTINGS, type StructureFitSettings } from '.
 import { fitDocument } from '../../fit/exafs/document';
 import { FIT_SPACES, type FitSpace } from '../../fit/exafs/problem';
 import { resolve } from 'node:path';
-import { writeReport } from '../../report/index';
 import type { CliIo } from '../io';
 import { emit, toJson } from '../output';
 import { fitResultLines } from '../fit-text';
@@ -128,6 +127,8 @@ export function registerFit(program: Command, io: CliIo): void {
         emit(io, lines.join('\n') + '\n', raw.out, [dataFile, structureFile]);
       }
       if (raw.report !== undefined) {
+        // the plotting libraries load only when a report is asked for
+        const { writeReport } = await import('../../report/index');
         const written = await writeReport(JSON.parse(toJson(doc, 10)), resolve(io.cwd, raw.report), { protectedInputs: [dataFile, structureFile].map((f) => resolve(io.cwd, f)) });
         io.stderr(`wrote ${written.html}\n`);
       }

@@ -6,7 +6,6 @@ import { defaultProviders } from '../../scatter/registry';
 import { prepareStudy, type PreparedStudy } from '../../fit/study/compile';
 import { readStudyFile } from '../../fit/study/load';
 import { runStudy, studyDocument, type StudyFitResult } from '../../fit/study/run';
-import { writeReport } from '../../report/index';
 import type { CliIo } from '../io';
 import { emit, textTable, toJson } from '../output';
 import { fitResultLines, fmt } from '../fit-text';
@@ -80,6 +79,8 @@ export function registerRun(program: Command, io: CliIo): void {
       emit(io, raw.json ? json : studyFitText(result, prepared, (p) => relative(io.cwd, p) || p), raw.out, inputs);
       const reportDir = raw.report !== undefined ? resolve(io.cwd, raw.report) : study.input.output?.report !== undefined ? resolve(io.cwd, study.resolvePath(study.input.output.report)) : undefined;
       if (reportDir !== undefined) {
+        // the plotting libraries load only when a report is asked for
+        const { writeReport } = await import('../../report/index');
         const written = await writeReport(JSON.parse(json), reportDir, { protectedInputs: inputs, title: study.input.title });
         io.stderr(`wrote ${written.html}\n`);
       }
