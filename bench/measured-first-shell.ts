@@ -19,7 +19,7 @@
  * r_1^0)) and its own msrd (so Fe has five free parameters); --first-only drops it. Common practice,
  * no source.
  *
- * Acceptance (issues 3 and 5): |dR| < 0.015 Å, 0.7 <= S0^2 <= 1.05, |e0| < 10 eV.
+ * Required: |dR| < 0.015 Å, 0.7 <= S0^2 <= 1.05, |e0| < 10 eV.
  *
  * --c3 frees the first shell's third cumulant as well (a diagnostic of anharmonic disorder, which
  * shortens the apparent distance of a harmonic fit; not part of the acceptance fit).

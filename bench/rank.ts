@@ -1,5 +1,5 @@
 /**
- * Benchmark of ranking at scale (issue 6): pre-screen and refinement throughput per core, the
+ * Benchmark of ranking at scale: pre-screen and refinement throughput per core, the
  * speed-up of two worker threads over one, and the peak memory of a run over 100 and 10,000
  * candidates (flat in the count is the target, since results stream to disk).
  *

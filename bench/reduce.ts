@@ -1,5 +1,5 @@
 /**
- * Benchmark: reducing a 1,000-point scan to chi(k) (issue 4; target under 100 ms).
+ * Benchmark: reducing a 1,000-point scan to chi(k) (target under 100 ms).
  * The scan is the invented one of src/reduce/synthetic.ts (1,000 energies, k up to 16 1/Å,
  * noise 0.002). Times the whole reduceScan (E0, normalisation, interpolation onto the 0.05 1/Å
  * grid, background fit, noise estimate): the first (cold) call, then the median, minimum and

@@ -2,7 +2,7 @@
  * Benchmark of the firstPrinciples scattering provider: one absorber (Cu, K edge) with three
  * scatterer species (O, Cu, Pt) on the full k grid 0..20 1/Å step 0.05, with a realistic environment.
  * "cold": a new provider and an empty cache folder (atoms solved, phase shifts computed, cache
- * written); "warm": a second new provider reading the same cache folder. Targets (issue 3): cold
+ * written); "warm": a second new provider reading the same cache folder. Targets: cold
  * < 2 s on one core, warm < 20 ms.
  *
  * The calculation is single-threaded; to pin it to one core on Linux: taskset -c 0 npx tsx bench/scatter.ts.

@@ -1,5 +1,5 @@
 /**
- * Benchmark: shells of one absorber in a 1,000,000-atom XYZ file (issue 2; target under 10 s and
+ * Benchmark: shells of one absorber in a 1,000,000-atom XYZ file (target under 10 s and
  * under 2 GB). Writes an fcc Cu supercell (63^3 cells x 4 atoms = 1,000,188 atoms, a = 3.6149 Å)
  * as XYZ into bench-output/, then times reading it and building the shells of one atom in the
  * middle, in a fresh child process so peak memory is that of the job alone.

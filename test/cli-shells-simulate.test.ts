@@ -6,7 +6,7 @@ import { cli, cliProcess, REPO } from './helpers/cli';
 
 const tmp = () => mkdtempSync(join(tmpdir(), 'shellrank-cli-'));
 
-// fcc Cu, a = 3.6149 Å (issue 2), as a P1 CIF written by hand
+// fcc Cu, a = 3.6149 Å (from memory, Wyckoff, Crystal Structures vol. 1), as a P1 CIF written by hand
 const cuCif = `data_Cu
 _cell_length_a 3.6149(2)
 _cell_length_b 3.6149

@@ -51,7 +51,7 @@ describe('EXAFS refinement on synthetic data (invented model, parametric provide
     }
   });
 
-  // Error bars checked against the truth over 50 seeded noise draws (issue 5). A standard error
+  // Error bars checked against the truth over 50 seeded noise draws. A standard error
   // is one standard deviation: for a calibrated error the truth lies within +-1 error in 68.3 % of
   // draws (Gaussian, common practice, no source), so +-1 error is held to a binomial band around
   // 0.683 (50 draws: sd 0.066; band 0.50-0.86) and the reported 95 % interval to >= 90 %.

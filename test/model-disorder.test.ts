@@ -6,7 +6,7 @@ import { hasPythonModules, runPython } from './helpers/python';
 
 const cuMass = elementBySymbol('Cu').weight;
 const mu = reducedMass(cuMass, cuMass);
-// fcc Cu, a = 3.6149 Å (from memory; issue 2): 4 atoms per a^3, first shell at a / sqrt(2)
+// fcc Cu, a = 3.6149 Å (from memory, Wyckoff, Crystal Structures vol. 1): 4 atoms per a^3, first shell at a / sqrt(2)
 const a = 3.6149;
 const density = 4 / a ** 3;
 const r1 = a / Math.SQRT2;

@@ -21,7 +21,7 @@ function constantTable(amplitude: number, phase: number, lambda: number): Scatte
 }
 
 describe('evaluateModel', () => {
-  it('reproduces the EXAFS equation written out by hand for one path with constant functions (design.md)', () => {
+  it('reproduces the EXAFS equation written out by hand for one path with constant functions (docs/methods.md)', () => {
     const params: ModelParameters = { amp: 0.9, e0: 0, paths: [{ n: 6, r: 2.1, msrd: 0.005, c3: 0.0002, c4: 0.00001 }] };
     const { chi } = evaluateModel(k, [constantTable(0.4, -1.1, 8)], params);
     for (let i = 0; i < k.length; i += 17) {
@@ -31,11 +31,11 @@ describe('evaluateModel', () => {
       expect(chi[i]).toBeCloseTo(expected, 12);
     }
   });
-  it('shifts k by the E0 shift: q = sqrt(k^2 - 0.2624683 e0) (design.md kinematics)', () => {
+  it('shifts k by the E0 shift: q = sqrt(k^2 - 0.2624683 e0) (docs/methods.md, Kinematics)', () => {
     const base: ModelParameters = { amp: 1, e0: 0, paths: [{ n: 1, r: 2.5, msrd: 0, c3: 0, c4: 0 }] };
     const shifted: ModelParameters = { ...base, e0: 10 };
     const t = constantTable(0.5, 0, 1e9);
-    expect(K2_PER_EV).toBeCloseTo(0.2624683, 6); // design.md rounds to 7 digits
+    expect(K2_PER_EV).toBeCloseTo(0.2624683, 6); // 1 / 3.8099821 eV Å^2 (hbar^2 / 2 m_e, CODATA 2018) = 0.26246842; checked to 6 digits
     const q = Float64Array.from(k, (kk) => Math.sqrt(kk * kk - K2_PER_EV * 10));
     const a = evaluateModel(k, [t], shifted).chi;
     const b = evaluateModel(q, [t], base).chi;

@@ -1,5 +1,5 @@
 /**
- * Acceptance of issue 6 on measured spectra (public-domain XDI example data in test/data):
+ * Ranking on measured spectra (public-domain XDI example data in test/data):
  * Cu foil, Fe foil and the Zn K edge of ZnSe ranked against crystal structures of the right and
  * of wrong arrangements, with the default ranking settings and the firstPrinciples provider.
  *

@@ -1,5 +1,5 @@
 /**
- * Resuming after an interruption (issue 6 acceptance): killing a running ranking (SIGKILL, so no
+ * Resuming after an interruption: killing a running ranking (SIGKILL, so no
  * clean-up code runs) and starting it again must skip every candidate already in the stream
  * file, compute only the rest, and give the same final table as an uninterrupted run. Also:
  * sharded runs merged with `shellrank merge` give the same table as one run.

@@ -1,5 +1,5 @@
 /**
- * Acceptance of issue 6, synthetic part: a spectrum simulated from one of 50 perturbed candidates
+ * Ranking on synthetic data: a spectrum simulated from one of 50 perturbed candidates
  * (seeded noise) must put the true candidate first in at least 19 of 20 seeds, and mark the
  * candidates that differ from it only below the resolution pi / (2 Dk) as not distinguishable
  * (sharing its rank) rather than ranking them by noise.

@@ -6,7 +6,7 @@ import { errorOf } from './helpers/errors';
 
 const FIXTURES = new URL('./fixtures/structures/', import.meta.url).pathname;
 const ZNSE_CU = `${FIXTURES}znse-cu.extxyz`;
-// ZnSe zinc blende a = 5.6676 Å, fcc Cu a = 3.6149 Å: from memory (Wyckoff; the values of issue 2).
+// ZnSe zinc blende a = 5.6676 Å, fcc Cu a = 3.6149 Å: from memory (Wyckoff, Crystal Structures vol. 1).
 const A_ZNSE = 5.6676;
 const A_CU = 3.6149;
 

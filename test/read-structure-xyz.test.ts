@@ -6,7 +6,7 @@ import { errorOf } from './helpers/errors';
 
 const FIXTURES = new URL('./fixtures/structures/', import.meta.url).pathname;
 const CU_NACL = `${FIXTURES}cu13-nacl8.xyz`;
-// fcc Cu a = 3.6149 Å, NaCl a = 5.6402 Å: from memory (Wyckoff, Crystal Structures vol. 1; also issue 2).
+// fcc Cu a = 3.6149 Å, NaCl a = 5.6402 Å: from memory (Wyckoff, Crystal Structures vol. 1).
 const A_CU = 3.6149;
 const A_NACL = 5.6402;
 
@@ -29,7 +29,7 @@ describe('readXyz on the Cu13 + NaCl8 two-frame fixture', () => {
   });
 
   it('puts the 12 Cu neighbours at a/sqrt(2) = 2.5561 Å from the centre', () => {
-    // fcc nearest-neighbour distance a/sqrt(2) (geometry; issue 2 quotes 2.5561 Å); file has 6 decimals
+    // fcc nearest-neighbour distance a/sqrt(2) (geometry: 2.5561 Å); file has 6 decimals
     for (let j = 1; j < 13; j++) expect(distance(frames[0].positions, 0, j)).toBeCloseTo(A_CU / Math.SQRT2, 5);
     expect(A_CU / Math.SQRT2).toBeCloseTo(2.5561, 4);
   });

@@ -1,6 +1,6 @@
 /**
  * Scans that cannot be reduced give a one-line InputError naming the file and what is wrong,
- * never a crash (issue 4, "Bad input"): a scan that stops before the edge or starts after it,
+ * never a crash (DEVELOPERS.md, Errors): a scan that stops before the edge or starts after it,
  * too few points above the edge for the requested k range, a given E0 outside the scan, an
  * inverted edge, and bad settings.
  */

@@ -37,7 +37,7 @@ function lowRRatio(r: Float64Array, mag: Float64Array): number {
 }
 
 describe('reduction of measured spectra', () => {
-  // Acceptance (issue 4): E0 within 3 eV of the tabulated edge (xraylib 4.0.0: Cu K 8978.9 eV, Fe K 7112 eV).
+  // Required: E0 within 3 eV of the tabulated edge (xraylib 4.0.0: Cu K 8978.9 eV, Fe K 7112 eV).
   for (const [file, symbol] of [['cu_metal_rt.xdi', 'Cu'], ['fe_metal_rt.xdi', 'Fe']] as const) {
     it(`${file}: E0 lies within 3 eV of the tabulated ${symbol} K edge (xraylib 4.0.0)`, () => {
       const chi = reduced(file);
@@ -55,7 +55,7 @@ describe('reduction of measured spectra', () => {
   });
   it('cu_metal_rt.xdi: the first |chi(R)| peak lies between 2.0 and 2.4 Å', () => {
     // fcc Cu nearest-neighbour distance 2.556 Å (a = 3.615 Å, handbook value, from memory); the
-    // scattering phase shift moves the peak below it (issue 4; common practice, no source).
+    // scattering phase shift moves the peak below it (common practice, no source).
     const { r, mag } = transform(reduced('cu_metal_rt.xdi'));
     const peak = firstPeak(r, mag);
     expect(peak.r).toBeGreaterThan(2.0);
@@ -64,7 +64,7 @@ describe('reduction of measured spectra', () => {
   for (const file of ['cu_metal_rt.xdi', 'fe_metal_rt.xdi', 'zn_znse_rt.xdi']) {
     it(`${file}: the background leaves |chi(R)| below 1 Å under 10 % of the first peak`, () => {
       const { r, mag } = transform(reduced(file));
-      expect(lowRRatio(r, mag)).toBeLessThan(0.1); // acceptance bound of issue 4
+      expect(lowRRatio(r, mag)).toBeLessThan(0.1); // required bound (common practice, no source)
     });
   }
   it('cu_metal_rt.xdi: the report holds every choice of the reduction', () => {

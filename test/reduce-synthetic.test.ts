@@ -41,7 +41,7 @@ function mulberry(seed: number) {
 describe('synthetic recovery (acceptance of issue 4)', () => {
   it('known chi(k) + smooth background + arctangent edge is recovered within 2 % rms over k 3-14, E0 found', () => {
     const { chi } = reduceScan(syntheticScan());
-    expect(relativeRms(chi)).toBeLessThan(0.02); // acceptance bound of issue 4
+    expect(relativeRms(chi)).toBeLessThan(0.02); // required bound (common practice, no source)
   });
   it('the same with E0 given at the arctangent centre', () => {
     const { chi } = reduceScan(syntheticScan(), { e0: 8979 });

@@ -80,7 +80,7 @@ describe('plot units and symbols', () => {
     expect(kWeightedTitle(0)).toBe('χ(k)');
     expect(kWeightedTitle(1)).toBe('kχ(k) (Å⁻¹)');
     expect(kWeightedTitle(2)).toBe('k²χ(k) (Å⁻²)');
-    // |chi(R)| of k^w chi(k) carries Å^-(w+1): the transform integrates over dk (1/Å); issue 7 gives 1/Å^3 for w = 2
+    // |chi(R)| of k^w chi(k) carries Å^-(w+1): the transform integrates over dk (1/Å), so 1/Å^3 for w = 2
     expect(chiRTitle(2)).toBe('|χ(R)| (Å⁻³)');
     expect(chiRTitle(0, 'real')).toBe('Re χ(R) (Å⁻¹)');
   });

@@ -36,7 +36,7 @@ describe('formatWithError: worked examples from published sources', () => {
   });
 
   it('gives the issue 7 example 2.548(4) and 2.548 ± 0.004 for 2.5483 ± 0.0041', () => {
-    // issue 7 ("e.g. 2.548(4) Å or 2.548 +- 0.004"); PDG rule: leading digits 410 -> one digit
+    // the two usual notations, 2.548(4) Å and 2.548 +- 0.004 (common practice, no source); PDG rule: leading digits 410 -> one digit
     expect(concise(2.5483, 0.0041)).toBe('2.548(4)');
     expect(pm(2.5483, 0.0041)).toBe('2.548 ± 0.004');
   });

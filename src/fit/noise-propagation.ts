@@ -16,7 +16,7 @@
  *     m = ssr / E[ssr]
  * is 1 when the model explains the data to within the noise. The reported standard errors are
  * sqrt(diag(V) m): the covariance scaled by the misfit the noise cannot account for, which is the
- * role the reduced chi-square plays in the usual recipe (design.md, Statistics), here with the
+ * role the reduced chi-square plays in the usual recipe (docs/methods.md, Statistics), here with the
  * expected value computed for the actual windows instead of from Stern's count of independent
  * points (that count assumes box windows; for a Hann k window with a 1/Å taper the effective
  * number is about half of it, measured in test/fit-noise-propagation.test.ts).

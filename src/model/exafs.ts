@@ -1,5 +1,5 @@
 /**
- * The single-scattering EXAFS equation (design.md; Sayers, Stern and Lytle, Phys. Rev. Lett. 27,
+ * The single-scattering EXAFS equation (docs/methods.md; Sayers, Stern and Lytle, Phys. Rev. Lett. 27,
  * 1204 (1971), with the cumulant expansion of Bunker, Nucl. Instrum. Methods 207, 437 (1983)):
  *
  *   chi(k) = sum_j amp N_j |f_j(q)| / (q R_j^2) exp(-2 q^2 s2_j + 2/3 q^4 c4_j) exp(-2 R_j / lambda_j(q))

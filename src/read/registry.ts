@@ -1,7 +1,7 @@
 /**
  * The structure-format registry: one entry per format (name, description, extensions,
  * content sniffing, read). A format is chosen by explicit name, then by content, then by
- * extension (after ASE's io registry; see ../shared/style.md).
+ * extension (after ASE's io registry).
  */
 import type { Structure } from '../structure/structure';
 

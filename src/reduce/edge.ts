@@ -2,7 +2,7 @@
  * Edge position and normalisation of mu(E).
  *
  * - E0 is the energy of the maximum of the smoothed derivative dmu/dE (common practice, no
- *   source; design.md): three-point derivatives on the measured grid, smoothed by a Gaussian of
+ *   source; docs/methods.md): three-point derivatives on the measured grid, smoothed by a Gaussian of
  *   width `smoothingEv` weighted by each point's share of the energy axis, maximum refined by a
  *   parabola through its neighbours.
  * - Pre-edge: a polynomial (default a line) fitted to mu over [E0 + pre1, E0 + pre2] and extended

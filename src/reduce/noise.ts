@@ -1,7 +1,7 @@
 /**
  * Noise estimate from the high-R part of the transform: at distances well beyond any
  * scattering shell (default 15-25 Å) |chi(R)| holds only noise, so its rms value eps_R measures
- * it (common practice, no source; design.md). For white noise of rms eps_k per point of chi(k)
+ * it (common practice, no source; docs/methods.md). For white noise of rms eps_k per point of chi(k)
  * on the grid dk, the transform of src/numeric/fourier.ts gives
  *   E |chi(R)|^2 = (dk^2 / pi) eps_k^2 sum_i (k_i^w W_i)^2,
  * hence eps_k = eps_R sqrt(pi) / (dk sqrt(sum_i (k_i^w W_i)^2)).

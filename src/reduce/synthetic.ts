@@ -5,7 +5,7 @@
  *
  * with a linear pre-edge pre(E), an arctangent edge A(E) = 1/2 + atan(2 (E - E0) / width) / pi,
  * a smooth quadratic post-edge decline post(E), and chi(k) a sum of damped sine waves in the
- * form of the EXAFS equation (design.md) with invented amplitudes, distances and disorder. By
+ * form of the EXAFS equation (docs/methods.md) with invented amplitudes, distances and disorder. By
  * construction the exact chi is (mu - mu0) / step with mu0 = pre + step * A * (1 + post), which is
  * what the reduction must recover. Optional Gaussian noise from a seeded generator (mulberry32,
  * Box-Muller). Nothing here is measured data.

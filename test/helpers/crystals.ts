@@ -13,13 +13,13 @@ export interface CrystalSpec {
 }
 
 export const CRYSTALS: CrystalSpec[] = [
-  // fcc Cu, a = 3.6149 Å (from memory; also the value in issue 2)
+  // fcc Cu, a = 3.6149 Å (from memory, Wyckoff, Crystal Structures vol. 1)
   { name: 'Cu fcc', build: "bulk('Cu', 'fcc', a=3.6149, cubic=True)" },
-  // bcc Fe, a = 2.8665 Å (from memory): nearest neighbours at 2.482 Å as issue 5 says
+  // bcc Fe, a = 2.8665 Å (from memory): nearest neighbours at a sqrt(3) / 2 = 2.482 Å
   { name: 'Fe bcc', build: "bulk('Fe', 'bcc', a=2.8665, cubic=True)" },
   // hcp Mg, a = 3.2094, c = 5.2108 Å (from memory)
   { name: 'Mg hcp', build: "bulk('Mg', 'hcp', a=3.2094, c=5.2108)" },
-  // zinc-blende ZnSe, a = 5.6676 Å (from memory): Zn-Se 2.454 Å as issue 5 says
+  // zinc-blende ZnSe, a = 5.6676 Å (from memory): Zn-Se at a sqrt(3) / 4 = 2.454 Å
   { name: 'ZnSe zinc blende', build: "bulk('ZnSe', 'zincblende', a=5.6676, cubic=True)" },
   // rock-salt NaCl, a = 5.6402 Å (from memory)
   { name: 'NaCl rock salt', build: "bulk('NaCl', 'rocksalt', a=5.6402, cubic=True)" },

@@ -1,5 +1,5 @@
 /**
- * The default refinement recipe (issue 5, what `fit` does without a study file): one group per
+ * The default refinement recipe (what `fit` does without a study file): one group per
  * shell whose structure distance is at most rMax + pathMargin (|chi(R)| peaks sit about 0.3-0.5 Å
  * below the bond length because of the phase shift; common practice, no source); per group `r` and
  * `msrd` free and `n` fixed at the structure's degeneracy; one `e0`, free; `amp` fixed at a given

@@ -3,7 +3,7 @@
  *
  * A format is chosen by explicit name, then by content (each format's sniff, in registry order:
  * extended XYZ before plain XYZ, since every extended XYZ file also looks like plain XYZ), then
- * by file extension (the order of ASE's io registry; see ../shared/style.md).
+ * by file extension (the order of ASE's io registry).
  */
 import { InputError } from '../../core/errors';
 import { readTextFile } from '../../core/files';
