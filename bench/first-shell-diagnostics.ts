@@ -2,7 +2,7 @@
  * Diagnostics of the first-principles chain for the three first shells of
  * bench/measured-first-shell.ts (crystals in ./first-shell-lib): muffin-tin and Norman radii, the
  * ground-state interstitial level, the Fermi-level estimate E_F - V_0, and the mean slope over
- * k 3-14 1/Å of the total phase and of its parts (central 2 delta_1; the rest = scatterer arg f_eff
+ * k 3-14 1/Å of the total phase and of its parts (central 2 delta_1; the rest = scatterer arg F
  * + propagation 2 (k_int - k) R - pi), with values at k = 4, 8, 12. A phase-slope error delta
  * (rad Å) moves a fitted distance by about delta / 2. A measuring tool.
  * Run: npx tsx bench/first-shell-diagnostics.ts [--settings JSON]

@@ -85,7 +85,7 @@ describe('shellrank paths', () => {
     const file = cuFile();
     const table = await cli(['paths', file, '--absorber', 'Cu', '--rmax', '4', '--max-legs', '2', '--provider', 'parametric']);
     expect(table.code).toBe(0);
-    expect(table.stdout).toMatch(/path\s+legs\s+R_eff \(Å\)\s+n\s+importance\s+atoms/);
+    expect(table.stdout).toMatch(/path\s+legs\s+R_half \(Å\)\s+n\s+importance\s+atoms/);
     expect(table.stdout).toMatch(/Cu\.1\s+2\s+2\.556\d\s+12\s+1\.000/);
     expect(table.stdout).not.toMatch(/ms\d/);
     for (const [args, key] of [[['--max-legs', '5'], '--max-legs'], [['--rmax', '7'], '--rmax'], [['--provider', 'parametric'], '--provider']] as const) {

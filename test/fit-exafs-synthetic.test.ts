@@ -33,10 +33,10 @@ const rules = [
   { n: '8', r: 'r2', msrd: 's2', c3: '0', c4: '0' },
 ];
 
-function dataset(chi: Float64Array, noise: number, space: 'k' | 'r' | 'q', kWeights = [2]): FitDataset {
+function dataset(chi: Float64Array, noise: number, space: 'k' | 'r' | 'q', kWeightings = [2]): FitDataset {
   return {
     name: 'synthetic', k, chi, noiseChi: noise, paths, tables, rules,
-    kRange: [3, 14], kWeights, kWindow: { shape: 'hann', taper: 1 }, rRange: [1, 3.2], rWindow: { shape: 'hann', taper: 0.5 }, space,
+    kRange: [3, 14], kWeightings, kTaper: { shape: 'hann', taper: 1 }, rRange: [1, 3.2], rTaper: { shape: 'hann', taper: 0.5 }, space,
   };
 }
 

@@ -18,18 +18,18 @@ const chi = evaluateModel(k, tables, { amp: 0.9, e0: 0, paths: [{ n: 6, r: 2.0, 
 const rules = [{ n: '6', r: 'r1', msrd: 's1', c3: '0', c4: '0' }];
 const parameters = [{ name: 'amp', value: 0.9, state: 'fixed' as const }, { name: 'e0', value: 0 }, { name: 'r1', value: 2.0 }, { name: 's1', value: 0.005 }];
 
-function dataset(space: 'k' | 'r' | 'q', kWeights: number[], name = 'set'): FitDataset {
+function dataset(space: 'k' | 'r' | 'q', kWeightings: number[], name = 'set'): FitDataset {
   return {
-    name, k, chi, noiseChi: 0.003, paths, tables, rules, kRange: [3, 13.5], kWeights,
-    kWindow: { shape: 'hann', taper: 1 }, rRange: [1, 2.8], rWindow: { shape: 'hann', taper: 0.4 }, space,
+    name, k, chi, noiseChi: 0.003, paths, tables, rules, kRange: [3, 13.5], kWeightings,
+    kTaper: { shape: 'hann', taper: 1 }, rRange: [1, 2.8], rTaper: { shape: 'hann', taper: 0.4 }, space,
   };
 }
 
 describe('noise map of a data set (closed form of test/../problem.ts)', () => {
   for (const space of ['k', 'r', 'q'] as const) {
-    for (const kWeights of [[2], [1, 3]]) {
-      it(`equals the residual map applied to unit data vectors, ${space} space, k-weights ${kWeights.join(',')}`, () => {
-        const problem = buildExafsProblem(parameters, [dataset('k', [1]), dataset(space, kWeights, 'second')]);
+    for (const kWeightings of [[2], [1, 3]]) {
+      it(`equals the residual map applied to unit data vectors, ${space} space, k-weights ${kWeightings.join(',')}`, () => {
+        const problem = buildExafsProblem(parameters, [dataset('k', [1]), dataset(space, kWeightings, 'second')]);
         const d = problem.datasets[1];
         const { columns, matrix } = noiseMatrix(d);
         // residual = P (model - data): perturbing one data point by its noise moves the residuals by -P' e_i
@@ -42,7 +42,7 @@ describe('noise map of a data set (closed form of test/../problem.ts)', () => {
           if (c % 7 !== 0 && c !== columns.length - 1) continue; // every 7th column and the last
           const moved = chi.slice();
           moved[i] += d.spec.noiseChi;
-          const other = buildExafsProblem(parameters, [dataset('k', [1]), { ...dataset(space, kWeights, 'second'), chi: moved }]);
+          const other = buildExafsProblem(parameters, [dataset('k', [1]), { ...dataset(space, kWeightings, 'second'), chi: moved }]);
           const out = new Float64Array(problem.nResiduals);
           other.residuals(free, out);
           for (let row = 0; row < d.length; row++) {

@@ -9,7 +9,7 @@ import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import {
-  BOUND_TOLERANCE, MAX_ABS_E0, MAX_RELATIVE_DISTANCE_SHIFT, MAX_S02, MIN_S02,
+  BOUND_TOLERANCE, MAX_ABS_E0, MAX_RELATIVE_DISTANCE_SHIFT, MAX_S0SQ, MIN_S0SQ,
   plausibilityWarnings, type PlausibilityInput,
 } from '../src/fit/exafs/plausibility';
 import { cli, REPO } from './helpers/cli';
@@ -48,20 +48,20 @@ describe('plausibilityWarnings', () => {
   });
 
   it('S0^2: none at 0.6 and 1.2, a warning just outside', () => {
-    for (const amp of [MIN_S02, MAX_S02]) {
+    for (const amp of [MIN_S0SQ, MAX_S0SQ]) {
       const at = plausible();
       at.datasets = [{ name: 'data', amp, e0: 2 }];
       expect(codes(at)).toEqual([]);
     }
-    for (const [amp, limit] of [[MIN_S02 - eps, MIN_S02], [MAX_S02 + eps, MAX_S02]]) {
+    for (const [amp, limit] of [[MIN_S0SQ - eps, MIN_S0SQ], [MAX_S0SQ + eps, MAX_S0SQ]]) {
       const out = plausible();
       out.datasets = [{ name: 'data', amp, e0: 2 }];
       const w = plausibilityWarnings(out);
-      expect(w.map((x) => x.code)).toEqual(['s02-range']);
+      expect(w.map((x) => x.code)).toEqual(['s0sq-range']);
       expect(w[0]).toMatchObject({ parameter: 'amp', value: amp, limit });
     }
-    expect(MIN_S02).toBe(0.6);
-    expect(MAX_S02).toBe(1.2);
+    expect(MIN_S0SQ).toBe(0.6);
+    expect(MAX_S0SQ).toBe(1.2);
   });
 
   it('|e0|: none at 10 eV either sign, a warning just above', () => {
@@ -125,7 +125,7 @@ describe('plausibilityWarnings', () => {
     two.datasets = [{ name: 'a', amp: 0.9, e0: 2 }, { name: 'b', amp: 0.3, e0: 2 }];
     const w = plausibilityWarnings(two);
     expect(w).toHaveLength(1);
-    expect(w[0]).toMatchObject({ code: 's02-range', dataset: 'b' });
+    expect(w[0]).toMatchObject({ code: 's0sq-range', dataset: 'b' });
     expect(w[0].message).toMatch(/in data set b/);
   });
 });
@@ -139,10 +139,10 @@ describe('plausibility warnings end to end (measured Cu foil, S0^2 fixed at 0.3)
     const json = await cli([...args, '--amp', '0.3', '--json']);
     expect(json.code, json.stderr).toBe(0);
     const doc = JSON.parse(json.stdout);
-    const s02 = doc.plausibility.filter((w: { code: string }) => w.code === 's02-range');
-    expect(s02).toHaveLength(1);
-    expect(s02[0]).toMatchObject({ parameter: 'amp', value: 0.3, limit: 0.6 });
-    expect(doc.warnings).toContain(s02[0].message);
+    const s0sq = doc.plausibility.filter((w: { code: string }) => w.code === 's0sq-range');
+    expect(s0sq).toHaveLength(1);
+    expect(s0sq[0]).toMatchObject({ parameter: 'amp', value: 0.3, limit: 0.6 });
+    expect(doc.warnings).toContain(s0sq[0].message);
 
     const dir = mkdtempSync(join(tmpdir(), 'shellrank-plausibility-'));
     try {
@@ -157,6 +157,6 @@ describe('plausibility warnings end to end (measured Cu foil, S0^2 fixed at 0.3)
     // the control: the customary S0^2 of a metal foil gives no S0^2 warning
     const control = await cli([...args, '--amp', '0.9', '--json']);
     expect(control.code, control.stderr).toBe(0);
-    expect(JSON.parse(control.stdout).plausibility.filter((w: { code: string }) => w.code === 's02-range')).toEqual([]);
+    expect(JSON.parse(control.stdout).plausibility.filter((w: { code: string }) => w.code === 's0sq-range')).toEqual([]);
   }, 300_000);
 });

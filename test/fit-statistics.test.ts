@@ -47,7 +47,7 @@ describe('independent points (Stern, Phys. Rev. B 48, 9825 (1993))', () => {
 });
 
 describe('fit statistics', () => {
-  it('reduced chi-square averages 1 for white noise of the stated size when N_idp = N_pts', () => {
+  it('reduced chi-square averages 1 for white noise of the stated size when N_ind = N_pts', () => {
     // E[chi2] = N - nu for Gaussian residuals of a linear model (common practice, no source).
     // 400 seeds: the mean has sd sqrt(2/(N-nu))/sqrt(400) = 0.0073 for N = 40; tolerance 0.025.
     let sum = 0;
@@ -59,7 +59,7 @@ describe('fit statistics', () => {
     expect(Math.abs(sum / 400 - 1)).toBeLessThan(0.025);
   });
 
-  it('standard errors are the textbook sqrt(C_jj ssr / (N - nu)) when N_idp = N_pts', () => {
+  it('standard errors are the textbook sqrt(C_jj ssr / (N - nu)) when N_ind = N_pts', () => {
     // Bevington and Robinson (2003), eq. 6.23 (number from memory) with the variance estimated from the residuals.
     const { fit, y } = lineFit(3, 50, 0.2);
     const s = fitStatistics({ residuals: fit.residuals, data: y, noise: 0.05, nIndependent: 50, covariance: fit.covariance, names: ['a', 'b'] });
@@ -69,7 +69,7 @@ describe('fit statistics', () => {
     }
   });
 
-  it('standard errors do not depend on the stated noise and grow as N_idp shrinks', () => {
+  it('standard errors do not depend on the stated noise and grow as N_ind shrinks', () => {
     const { fit, y } = lineFit(4, 50, 0.2);
     const base = { residuals: fit.residuals, data: y, covariance: fit.covariance, names: ['a', 'b'] };
     const a = fitStatistics({ ...base, noise: 0.01, nIndependent: 12 });
@@ -77,7 +77,7 @@ describe('fit statistics', () => {
     const full = fitStatistics({ ...base, noise: 0.2, nIndependent: 50 });
     for (let j = 0; j < 2; j++) {
       expect(Math.abs(a.standardErrors[j] / b.standardErrors[j] - 1)).toBeLessThan(1e-12);
-      // Ratio sqrt((N_pts - nu)/(N_idp - nu)) = sqrt(48/10), from the formulas in the module header.
+      // Ratio sqrt((N_pts - nu)/(N_ind - nu)) = sqrt(48/10), from the formulas in the module header.
       expect(a.standardErrors[j] / full.standardErrors[j]).toBeCloseTo(Math.sqrt(48 / 10), 10);
     }
     expect(a.chiSquare / b.chiSquare).toBeCloseTo((3.0 / 0.01) ** 2, 6);

@@ -72,7 +72,7 @@ describe('shellrank rank', () => {
       expect(Array.isArray(c.fit.plausibility)).toBe(true);
       for (const w of c.fit.plausibility.filter((x: { code: string }) => x.code !== 'at-bound' && x.code !== 'not-converged')) expect(c.fit.warnings).toContain(w.message);
     }
-    // N_idp = 2 Dk DR / pi + 2 for k 3-14, R 1.2-3.6 (Stern, Phys. Rev. B 48, 9825 (1993))
+    // N_ind = 2 Dk DR / pi + 2 for k 3-14, R 1.2-3.6 (Stern, Phys. Rev. B 48, 9825 (1993))
     // (the JSON keeps 10 significant digits)
     expect(best.stats.nIndependent).toBeCloseTo((2 * 11 * 2.4) / Math.PI + 2, 7);
     expect(doc.settings.settingsHash).toMatch(/^[0-9a-f]{16}$/);
@@ -83,7 +83,7 @@ describe('shellrank rank', () => {
     const md = await cli(['rank', 'a-only.json', 'candidates', '--absorber', '#0', '--provider', 'parametric', '--workers', '0', '--markdown', '--out', 'out-a'], dir);
     expect(md.code).toBe(0);
     const lines = md.stdout.trim().split('\n');
-    expect(lines[0]).toBe('| rank | candidate | verdict | p | test | R-factor | reduced chi2 | AIC | BIC | varied | N_idp | stage |');
+    expect(lines[0]).toBe('| rank | candidate | verdict | p | test | R-factor | reduced chi2 | AIC | BIC | varied | N_ind | stage |');
     expect(lines).toHaveLength(4);
     // the second run found everything done in the same --out folder
     expect(md.stderr).toContain('resumed: 2 pre-screened and 2 refined');

@@ -5,7 +5,7 @@
  * Levenberg-Marquardt refinement of the same two parameters.
  */
 import { describe, it, expect } from 'vitest';
-import { buildExafsProblem, type FitSpace } from '../src/fit/exafs/problem';
+import { buildExafsProblem, type FitDomain } from '../src/fit/exafs/problem';
 import { refine } from '../src/fit/exafs/refine';
 import { evaluateModel } from '../src/model/exafs';
 import { tablesForPaths } from '../src/model/tables';
@@ -29,12 +29,12 @@ function simulated(amp: number, e0: number): Float64Array {
   return evaluateModel(k, tables, { amp, e0, paths: paths.map((p, j) => ({ n: p.degeneracy, r: p.r, msrd: msrd[j], c3: 0, c4: 0 })) }).chi;
 }
 
-function windowSettings(space: FitSpace): WindowSettings {
-  return { kRange: [3, 14], rRange: [1.2, 4.2], kWeights: [2], space, kWindow: { shape: 'hann', taper: 1 }, rWindow: { shape: 'hann', taper: 0.5 } };
+function windowSettings(space: FitDomain): WindowSettings {
+  return { kRange: [3, 14], rRange: [1.2, 4.2], kWeightings: [2], space, kTaper: { shape: 'hann', taper: 1 }, rTaper: { shape: 'hann', taper: 0.5 } };
 }
 
 describe('projectChi reproduces the residual layout of buildExafsProblem', () => {
-  for (const space of ['r', 'k', 'q'] as FitSpace[]) {
+  for (const space of ['r', 'k', 'q'] as FitDomain[]) {
     it(`in ${space} space, to 1e-12 of the largest element`, () => {
       const data = simulated(0.9, 1.5);
       const noiseChi = 1e-3;
@@ -46,7 +46,7 @@ describe('projectChi reproduces the residual layout of buildExafsProblem', () =>
         [{
           name: 'synthetic', k, chi: data, noiseChi, paths, tables,
           rules: paths.map((p, j) => ({ n: String(p.degeneracy), r: String(p.r), msrd: String(msrd[j]), c3: '0', c4: '0' })),
-          kRange: w.kRange, kWeights: w.kWeights, kWindow: w.kWindow, rRange: w.rRange, rWindow: w.rWindow, space,
+          kRange: w.kRange, kWeightings: w.kWeightings, kTaper: w.kTaper, rRange: w.rRange, rTaper: w.rTaper, space,
         }],
       );
       const expected = new Float64Array(problem.nResiduals);
@@ -85,7 +85,7 @@ describe('prescreen', () => {
       [{
         name: 'noisy', k, chi: data, noiseChi, paths, tables,
         rules: paths.map((p, j) => ({ n: String(p.degeneracy), r: String(p.r), msrd: String(msrd[j]), c3: '0', c4: '0' })),
-        kRange: w.kRange, kWeights: w.kWeights, kWindow: w.kWindow, rRange: w.rRange, rWindow: w.rWindow, space: 'r',
+        kRange: w.kRange, kWeightings: w.kWeightings, kTaper: w.kTaper, rRange: w.rRange, rTaper: w.rTaper, space: 'r',
       }],
     );
     const full = refine(problem);

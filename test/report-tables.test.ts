@@ -216,7 +216,7 @@ describe('tables: ranking and parameter tables', () => {
   it('renders the ranking as CSV with full-precision numbers and the file column', () => {
     const csv = tableToCsv(rankingTable(model.candidates));
     const lines = csv.trim().split('\r\n');
-    expect(lines[0]).toBe('Rank,Candidate,Verdict,R-factor,reduced χ²,AIC,BIC,N_idp,N_var,p (vs best),file');
+    expect(lines[0]).toBe('Rank,Candidate,Verdict,R-factor,reduced χ²,AIC,BIC,N_ind,N_var,p (vs best),file');
     expect(lines).toHaveLength(1 + model.candidates.length);
     expect(lines[2]).toContain(String(model.candidates[1].stats.rFactor)); // unrounded
   });

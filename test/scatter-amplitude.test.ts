@@ -1,8 +1,8 @@
 /**
  * Curved-wave single-scattering amplitude: the addition theorem it rests on (checked pointwise with
- * independently computed j_l, h_l, Y_lm), the exact s-wave closed form f_eff = f (1 + i/(kR))^2 that
+ * independently computed j_l, h_l, Y_lm), the exact s-wave closed form F = f (1 + i/(kR))^2 that
  * follows from h_1(x) = -e^{ix}(x + i)/x^2 (A&S 10.1.11), and the plane-wave limit
- * f_eff -> f(pi) = (1/k) sum (2l+1)(-1)^l e^{i delta_l} sin delta_l for large R (Lee and Pendry,
+ * F -> f(pi) = (1/k) sum (2l+1)(-1)^l e^{i delta_l} sin delta_l for large R (Lee and Pendry,
  * Phys. Rev. B 11, 2795 (1975); Rehr and Albers, Phys. Rev. B 41, 8139 (1990)).
  * The full short-R complex amplitude, phase included, is checked for every l' of the scatterer
  * against an oracle that uses no angular-momentum algebra: the outgoing wave h_l Y_lm of the
@@ -73,7 +73,7 @@ describe('addition theorem for outgoing spherical waves (Danos and Maximon 1965)
 });
 
 describe('curved-wave amplitude', () => {
-  it('pure s-wave scatterer, final l = 1: f_eff / f = (1 + i/(kR))^2 to 1e-12', () => {
+  it('pure s-wave scatterer, final l = 1: F / f = (1 + i/(kR))^2 to 1e-12', () => {
     const coef = translationCoefficients(1, 0);
     for (const [k, R] of [[0.8, 4], [3, 5]]) {
       const dr = [0.7];
@@ -88,7 +88,7 @@ describe('curved-wave amplitude', () => {
       expect(fi).toBeCloseTo(pr * ci + pi * cr, 12);
     }
   });
-  it('short R, every l\' = 0..7, final l = 0, 1, 2: f_eff equals the direct angular projections of the two translations (complex, 1e-9 relative)', () => {
+  it('short R, every l\' = 0..7, final l = 0, 1, 2: F equals the direct angular projections of the two translations (complex, 1e-9 relative)', () => {
     const gauss = gaussLegendre(96);
     const theta = (l: number, m: number, c: number) => sphericalHarmonic(l, m, Math.acos(c), 0)[0];
     const hankel = (l: number, x: number): [number, number] => {
@@ -148,7 +148,7 @@ describe('curved-wave amplitude', () => {
   });
   const pot = spherePotentialFrom(2.4, (r) => [(-29 * Math.exp(-r / 0.5)) / r - 0.5, 0], 0.01);
   for (const finalL of [1, 2, 0]) {
-    it(`|f_eff| is within 1 % of |f(pi)| at R = 50 Å and the complex difference falls as 1/R (final l = ${finalL})`, () => {
+    it(`|F(k)| is within 1 % of |f(pi)| at R = 50 Å and the complex difference falls as 1/R (final l = ${finalL})`, () => {
       const coef = translationCoefficients(finalL, 40);
       for (const kA of [3, 8, 14]) {
         const k = kA * 0.529177210903;

@@ -1,7 +1,7 @@
 /**
  * The firstPrinciples provider: table shape and provenance, the disk cache (keyed by every input,
  * bypassed with cache: false, folder from option > $SHELLRANK_CACHE_DIR > $XDG_CACHE_HOME), the
- * phase convention phase = 2 delta_c - l pi + arg f_eff, and trade facts of backscattering amplitudes
+ * phase convention phase = 2 delta_c - l pi + arg F, and trade facts of backscattering amplitudes
  * (common practice, no source: heavier backscatterers have their amplitude maximum at higher k in the
  * EXAFS range; Pt and Pb show a deep amplitude minimum at intermediate k, a Ramsauer-Townsend-like
  * effect, e.g. the amplitude plots of Teo and Lee, J. Am. Chem. Soc. 101, 2815 (1979), from memory).
@@ -105,7 +105,7 @@ describe('firstPrinciples provider and its cache', () => {
 });
 
 describe('phase convention and physical shape', () => {
-  it('a single K-edge channel gives phase = 2 delta_1 - pi + arg f_eff (mod 2 pi)', () => {
+  it('a single K-edge channel gives phase = 2 delta_1 - pi + arg F (mod 2 pi)', () => {
     const delta = 0.7;
     const f: [number, number] = [0.3, -0.2];
     const [zr, zi] = combineChannels([{ l: 1, weight: 1, centralRe: delta, centralIm: 0, amplitude: f }]);

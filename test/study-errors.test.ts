@@ -70,7 +70,7 @@ describe('study error messages name the file, the line and the key', () => {
   });
 
   it('an unknown key, with the nearest valid key', () => {
-    expect(studyError(replace(11, '    kweights: 2')).message).toBe("bad.study.yaml:11: datasets[0].kweights: unknown key (did you mean 'kWeights'?)");
+    expect(studyError(replace(11, '    kweightings: 2')).message).toBe("bad.study.yaml:11: datasets[0].kweightings: unknown key (did you mean 'kWeightings'?)");
     expect(studyError(replace(1, 'provder: parametric')).message).toBe("bad.study.yaml:1: provder: unknown key (did you mean 'provider'?)");
     expect(studyError(replace(4, '  e0: { value: 0, bound: [-10, 10] }')).message).toBe("bad.study.yaml:4: parameters.e0.bound: unknown key (did you mean 'bounds'?)");
     expect(studyError(replace(14, '        msdr: s1')).message).toBe("bad.study.yaml:14: datasets[0].shells[0].msdr: unknown key (did you mean 'msrd'?)");
@@ -84,7 +84,7 @@ describe('study error messages name the file, the line and the key', () => {
     expect(studyError(replace(9, '    absorber: [Cu]')).message).toMatch(/^bad\.study\.yaml:9: datasets\[0\]\.absorber: expected an element/);
     expect(studyError([...VALID, '    radius: big']).message).toBe("bad.study.yaml:15: datasets[0].radius: expected a number, got the text 'big'");
     expect(studyError([...VALID, '    space: R']).message).toBe("bad.study.yaml:15: datasets[0].space: expected one of k, r, q, got the text 'R' (did you mean 'r'?)");
-    expect(studyError([...VALID, '    kWindow: { shape: han }']).message).toMatch(/^bad\.study\.yaml:15: datasets\[0\]\.kWindow\.shape: expected one of hann, box, kaiser, welch, got the text 'han' \(did you mean 'hann'\?\)$/);
+    expect(studyError([...VALID, '    kTaper: { shape: han }']).message).toMatch(/^bad\.study\.yaml:15: datasets\[0\]\.kTaper\.shape: expected one of hann, box, kaiser, welch, got the text 'han' \(did you mean 'hann'\?\)$/);
     expect(studyError(replace(5, '  s1: { value: small }')).message).toBe("bad.study.yaml:5: parameters.s1.value: expected a number, got the text 'small'");
     expect(studyError(replace(5, '  s1: true')).message).toMatch(/^bad\.study\.yaml:5: parameters\.s1: expected a number \(fixed\), an expression \(tied\) or a mapping/);
     expect(studyError(['provider: parametric']).message).toBe('bad.study.yaml:1: datasets: missing (expected a list)');
@@ -175,10 +175,10 @@ describe('study error messages name the file, the line and the key', () => {
 
   it('the run command prints one line with the location and exits with code 2', async () => {
     const path = join(folder, 'cli-bad.study.yaml');
-    writeFileSync(path, replace(11, '    kweights: 2').join('\n'));
+    writeFileSync(path, replace(11, '    kweightings: 2').join('\n'));
     const run = await cli(['run', path]);
     expect(run.code).toBe(2);
-    expect(run.stderr).toBe(`shellrank: error: ${path}:11: datasets[0].kweights: unknown key (did you mean 'kWeights'?)\n`);
+    expect(run.stderr).toBe(`shellrank: error: ${path}:11: datasets[0].kweightings: unknown key (did you mean 'kWeightings'?)\n`);
     const missing = await cli(['run', join(folder, 'none.study.yaml')]);
     expect(missing.code).toBe(2);
     expect(missing.stderr).toMatch(/none\.study\.yaml: no such file/);
@@ -194,7 +194,7 @@ describe('study helpers', () => {
   it('measures edit distance with transpositions (Damerau, Commun. ACM 7, 171 (1964): one transposition costs 1)', () => {
     expect(editDistance('msdr', 'msrd')).toBe(1);
     expect(editDistance('kitten', 'sitting')).toBe(3); // the classic Levenshtein example, distance 3
-    expect(nearest('kweights', ['kWeights', 'k', 'r'])).toBe('kWeights');
+    expect(nearest('kweightings', ['kWeightings', 'k', 'r'])).toBe('kWeightings');
     expect(nearest('zzzz', ['k', 'r'])).toBeUndefined();
   });
   it('replaces names but never digits inside numbers', () => {

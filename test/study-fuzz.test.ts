@@ -36,10 +36,10 @@ defaults:
   absorber: Cu
   k: [3, 14]
   r: 1.5:3.4
-  kWindow: { shape: hann, taper: 1 }
+  kTaper: { shape: hann, taper: 1 }
 datasets:
   - name: first
-    kWeights: [1, 2]
+    kWeightings: [1, 2]
     temperature: 300
     shells:
       - include: Cu.1

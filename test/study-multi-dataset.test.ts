@@ -150,8 +150,8 @@ describe('the same chi(k) as two data sets at two k-weights (synthetic, parametr
       '  r: 1.5:3',
       '  shells: [{ include: Cu.1 }]',
     ];
-    const two = parseStudyText([...head, 'datasets:', '  - { name: kw1, kWeights: 1 }', '  - { name: kw3, kWeights: 3 }', ''].join('\n'), join(folder, 'two.study.yaml'), folder);
-    const one = parseStudyText([...head, 'datasets:', '  - { name: both, kWeights: [1, 3] }', ''].join('\n'), join(folder, 'one.study.yaml'), folder);
+    const two = parseStudyText([...head, 'datasets:', '  - { name: kw1, kWeightings: 1 }', '  - { name: kw3, kWeightings: 3 }', ''].join('\n'), join(folder, 'two.study.yaml'), folder);
+    const one = parseStudyText([...head, 'datasets:', '  - { name: both, kWeightings: [1, 3] }', ''].join('\n'), join(folder, 'one.study.yaml'), folder);
     const preparedTwo = prepareStudy(two, { providers });
     const a = runStudy(preparedTwo);
     const b = runStudy(prepareStudy(one, { providers }));

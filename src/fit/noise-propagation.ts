@@ -23,7 +23,7 @@
  * Because m is estimated from the residuals, confidence intervals use Student's t with the
  * effective degrees of freedom of ssr by the Welch-Satterthwaite approximation (Satterthwaite,
  * Biometrics Bulletin 2, 110 (1946); reference from memory):
- *     nu_eff = tr(M)^2 / tr(M^2),  M = (I - H) S,
+ *     nu_effective = tr(M)^2 / tr(M^2),  M = (I - H) S,
  *     tr(M^2) = tr(S^2) - 2 tr(A J^T S^2 J) + tr(A B A B),  B = J^T S J.
  * Only the blocks of S (one per data set; different data sets have independent noise), each
  * formed once and kept as a low-rank factor, and J are needed; the whole m x m S never is.

@@ -1,32 +1,32 @@
 /**
  * Goodness-of-fit statistics for EXAFS fits and significance tests between fits.
  *
- * Formulas (N_pts fitted points, N_idp independent points, nu = number of varied parameters,
+ * Formulas (N_pts fitted points, N_ind independent points, nu = number of varied parameters,
  * r_i the residuals that were minimised, eps_i their measurement noise, y_i the fitted data):
  * - Independent points (Stern, Phys. Rev. B 48, 9825 (1993)):
- *     N_idp = 2 Dk DR / pi + 2      (endCorrection true, the default: Stern's count)
- *     N_idp = 2 Dk DR / pi          (endCorrection false: the Nyquist count alone)
+ *     N_ind = 2 Dk DR / pi + 2      (endCorrection true, the default: Stern's count)
+ *     N_ind = 2 Dk DR / pi          (endCorrection false: the Nyquist count alone)
  * - chi-square with the points scaled to the information they carry (International XAFS Society
  *   Standards and Criteria Committee, "Error reporting recommendations" (2000), from memory;
  *   common practice):
- *     chi2 = (N_idp / N_pts) sum_i (r_i / eps_i)^2,   reduced chi2 = chi2 / (N_idp - nu)
+ *     chi2 = (N_ind / N_pts) sum_i (r_i / eps_i)^2,   reduced chi2 = chi2 / (N_ind - nu)
  * - R-factor: R = sum_i r_i^2 / sum_i y_i^2 (the fractional misfit, squared form).
- * - Information criteria with N_idp as the sample size, Gaussian likelihood with unknown
+ * - Information criteria with N_ind as the sample size, Gaussian likelihood with unknown
  *   variance (Akaike, IEEE Trans. Autom. Control 19, 716 (1974); Schwarz, Ann. Stat. 6, 461 (1978)):
- *     AIC = N_idp ln(chi2 / N_idp) + 2 nu,   BIC = N_idp ln(chi2 / N_idp) + nu ln(N_idp)
+ *     AIC = N_ind ln(chi2 / N_ind) + 2 nu,   BIC = N_ind ln(chi2 / N_ind) + nu ln(N_ind)
  *   Only differences between fits of the same data are meaningful.
  * - Standard errors: sqrt(diag(C_chi)) * sqrt(reduced chi2), where C_chi = (J_chi^T J_chi)^-1 is the
- *   covariance of the chi2-normalised problem, J_chi = sqrt(N_idp/N_pts) J / eps. For uniform
- *   noise this is C (N_pts/N_idp) eps^2 with C = (J^T J)^-1 of the minimised residuals, and the
- *   scaled covariance becomes C * sum r^2 / (N_idp - nu), independent of eps. For per-point
+ *   covariance of the chi2-normalised problem, J_chi = sqrt(N_ind/N_pts) J / eps. For uniform
+ *   noise this is C (N_pts/N_ind) eps^2 with C = (J^T J)^-1 of the minimised residuals, and the
+ *   scaled covariance becomes C * sum r^2 / (N_ind - nu), independent of eps. For per-point
  *   noise the effective eps^2 = N_pts / sum eps_i^-2 is used (exact when the residuals were
  *   already divided by their noise; pass noise 1 then).
  * - Correlation: C_ij / sqrt(C_ii C_jj).
  * - F-test between nested fits (restricted model with p0 parameters inside the full one with p1):
- *     F = ((chi2_0 - chi2_1) / (p1 - p0)) / (chi2_1 / (N_idp - p1)),  p = P(F(p1-p0, N_idp-p1) > F)
+ *     F = ((chi2_0 - chi2_1) / (p1 - p0)) / (chi2_1 / (N_ind - p1)),  p = P(F(p1-p0, N_ind-p1) > F)
  * - Hamilton's R-ratio test (Hamilton, Acta Cryst. 18, 502 (1965)): with the square-root R-factors
  *   R = sqrt(R-factor), the ratio Rr = R_0 / R_1 is significant at level alpha when
- *   Rr > sqrt(b F_{b, n-m, alpha} / (n - m) + 1), b = p1 - p0 restrictions, m = p1, n = N_idp
+ *   Rr > sqrt(b F_{b, n-m, alpha} / (n - m) + 1), b = p1 - p0 restrictions, m = p1, n = N_ind
  *   observations; equivalently p = P(F(b, n-m) > (Rr^2 - 1)(n - m)/b).
  */
 import { InputError } from '../core/errors';
@@ -63,7 +63,7 @@ export interface FitStatisticsInput {
   data: Float64Array;
   /** Measurement noise eps: one value for all points, or one per point (same units as residuals). */
   noise: number | Float64Array;
-  /** Independent points N_idp (see {@link independentPoints}). */
+  /** Independent points N_ind (see {@link independentPoints}). */
   nIndependent: number;
   /** (J^T J)^-1 of the minimised residuals (nu x nu, row-major), or null when singular. */
   covariance: Float64Array | null;
@@ -86,7 +86,7 @@ export interface FitStatistics {
   nPoints: number;
   nIndependent: number;
   nVaried: number;
-  /** N_idp - nu. */
+  /** N_ind - nu. */
   degreesOfFreedom: number;
   /** Sum of squared residuals (unscaled). */
   sumOfSquares: number;

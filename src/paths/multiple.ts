@@ -8,7 +8,7 @@
  * for multiple scattering in the small-atom approximation) sums over every sequence of scatterers
  * that starts and ends at the absorber. This module keeps the two families that carry most of the
  * multiple-scattering signal of close-packed solids:
- * - triangles 0 -> i -> j -> 0 (in fcc metals the first-shell triangles, R_eff = 1.5 d), and the
+ * - triangles 0 -> i -> j -> 0 (in fcc metals the first-shell triangles, R_half = 1.5 d), and the
  *   collinear 0 -> i -> j -> 0 with i midway, where forward scattering through i focuses the wave;
  * - 0 -> i -> j -> i -> 0, whose collinear member (i midway between 0 and j) is the second-order
  *   focusing term: single scattering from j, twice the double scattering and this path together

@@ -158,7 +158,7 @@ export function makeContext(job: RankJob): EvaluationContext {
   const s = job.settings;
   const window = compileWindow({ name: job.data.name, k: job.data.k, chi: job.data.chi, noiseChi: job.data.noiseChi }, s.window);
   const provider = defaultProviders({ cache: job.cache, cacheDir: job.cacheDir }).get(s.provider);
-  const kMax = s.window.kRange[1] + s.window.kWindow.taper;
+  const kMax = s.window.kRange[1] + s.window.kTaper.taper;
   const tables = new TableSource(provider, s.tables, job.referenceEnvironment, kMax);
   return { job, window, tables, frames: new FrameCache((p) => resolvePath(job.cwd, p)), provider, noiseCache: new Map() };
 }
@@ -254,7 +254,7 @@ function multipleOf(ctx: EvaluationContext, spec: CandidateSpec, components: Com
     return multipleScatteringForComponent(ctx.provider, clusters[ci], { paths, tables: paths.map((p) => lookup(p.scatterer, p.r)) }, {
       absorber: c.pathSet.absorber, edge: c.pathSet.edge,
       environment: shared ? ctx.job.referenceEnvironment as Environment : c.pathSet.environment,
-      maxHalfLength, kRange: s.window.kRange, kMax: s.window.kRange[1] + s.window.kWindow.taper,
+      maxHalfLength, kRange: s.window.kRange, kMax: s.window.kRange[1] + s.window.kTaper.taper,
     }, ms);
   });
 }
@@ -285,7 +285,7 @@ function evaluateRefine(ctx: EvaluationContext, components: ComponentShells[], s
   const m = ctx.job.data;
   const problem = buildExafsProblem(recipe.parameters, [{
     name: m.name, k: m.k, chi: m.chi, noiseChi: m.noiseChi, paths: recipe.paths, tables, rules: recipe.rules,
-    kRange: w.kRange, kWeights: w.kWeights, kWindow: w.kWindow, rRange: w.rRange, rWindow: w.rWindow, space: w.space,
+    kRange: w.kRange, kWeightings: w.kWeightings, kTaper: w.kTaper, rRange: w.rRange, rTaper: w.rTaper, space: w.space,
   }], { noiseCache: ctx.noiseCache });
   const result = refine(problem, { starts: s.starts });
   const fit: FitSummary = {
@@ -304,11 +304,11 @@ function evaluateRefine(ctx: EvaluationContext, components: ComponentShells[], s
     // unweighted chi(k) of data, model and each shell, in the shape of the fit document's curves
     curves: result.curves.map((c) => ({
       name: c.name,
-      kWeighting: w.kWeights[0],
+      kWeighting: w.kWeightings[0],
       k: Array.from(c.k, (x) => round(x, 8)),
       data: Array.from(c.data, (x) => round(x, 8)),
       model: Array.from(c.model, (x) => round(x, 8)),
-      window: { shape: w.kWindow.shape, min: w.kRange[0], max: w.kRange[1], taper: w.kWindow.taper },
+      window: { shape: w.kTaper.shape, min: w.kRange[0], max: w.kRange[1], taper: w.kTaper.taper },
       rRange: w.rRange,
       shells: curvesByShellOrGroup(result.shells.map((sh) => sh.id), recipe.groupOf, c.perPath),
     }))[0],

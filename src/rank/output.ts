@@ -16,7 +16,7 @@ import { readRecordAt } from './stream';
 
 export type TableFormat = 'text' | 'markdown' | 'csv';
 
-const HEADER = ['rank', 'candidate', 'verdict', 'p', 'test', 'R-factor', 'reduced chi2', 'AIC', 'BIC', 'varied', 'N_idp', 'stage'];
+const HEADER = ['rank', 'candidate', 'verdict', 'p', 'test', 'R-factor', 'reduced chi2', 'AIC', 'BIC', 'varied', 'N_ind', 'stage'];
 
 function fmt(x: number | null | undefined, digits = 4): string {
   if (x === null || x === undefined || !Number.isFinite(x)) return '-';

@@ -1,7 +1,7 @@
 /**
  * The ranking recipe: one refinement recipe applied unchanged to every candidate, so that their
  * scores are comparable, with few enough free parameters to stay well inside the independent
- * points of the data window (N_idp = 2 Dk DR / pi + 2, Stern, Phys. Rev. B 48, 9825 (1993)).
+ * points of the data window (N_ind = 2 Dk DR / pi + 2, Stern, Phys. Rev. B 48, 9825 (1993)).
  *
  * What it does, as an analyst would by hand (common practice, no source):
  * - Shells: those whose structure distance is at most rMax + pathMargin (|chi(R)| peaks sit about
@@ -47,7 +47,7 @@ export interface RankingRecipeOptions {
   ampBounds?: [number, number];
   /** 'expand' (default): one global expansion factor; 'fixed': structure distances. */
   distances?: 'expand' | 'fixed';
-  /** Largest number of free parameters (default floor(N_idp / 2)). */
+  /** Largest number of free parameters (default floor(N_ind / 2)). */
   maxFree?: number;
   /** Start value of the group msrd, Å^2 (default 0.005). */
   msrdStart?: number;

@@ -22,7 +22,7 @@ import { InputError } from '../core/errors';
 import { hashOf } from '../core/hash';
 import { SHELLRANK_VERSION } from '../core/provenance';
 import type { EdgeName } from '../elements/index';
-import type { FitSpace } from '../fit/exafs/problem';
+import type { FitDomain } from '../fit/exafs/problem';
 import type { WindowShape } from '../numeric/window';
 import type { Chi } from '../reduce/index';
 import type { AbsorberSelector } from '../structure/cluster';
@@ -39,10 +39,10 @@ export interface RankOptions {
   tolerance?: number;
   kRange?: [number, number];
   rRange?: [number, number];
-  kWeights?: number[];
-  space?: FitSpace;
-  kWindow?: { shape: WindowShape; taper: number };
-  rWindow?: { shape: WindowShape; taper: number };
+  kWeightings?: number[];
+  space?: FitDomain;
+  kTaper?: { shape: WindowShape; taper: number };
+  rTaper?: { shape: WindowShape; taper: number };
   pathMargin?: number;
   bandWidth?: number;
   amp?: number | 'free';
@@ -92,10 +92,10 @@ export function resolveSettings(options: RankOptions, chi: Chi, _candidateCount?
     window: {
       kRange: options.kRange ?? defaultKRange(chi),
       rRange,
-      kWeights: options.kWeights ?? [2],
+      kWeightings: options.kWeightings ?? [2],
       space: options.space ?? 'r',
-      kWindow: options.kWindow ?? { shape: 'hann', taper: 1 },
-      rWindow: options.rWindow ?? { shape: 'hann', taper: 0.5 },
+      kTaper: options.kTaper ?? { shape: 'hann', taper: 1 },
+      rTaper: options.rTaper ?? { shape: 'hann', taper: 0.5 },
     },
     recipe: {
       pathMargin,

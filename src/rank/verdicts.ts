@@ -2,17 +2,17 @@
  * From scored candidates to a ranking: order, significance of each candidate against the best,
  * plain-word verdicts, and shared ranks for candidates the data cannot tell apart.
  *
- * Order: by reduced chi-square (chi2 / (N_idp - nu)), lowest first, so candidates with more free
+ * Order: by reduced chi-square (chi2 / (N_ind - nu)), lowest first, so candidates with more free
  * parameters pay for them; failed fits last; ties by the stable candidate order.
  *
  * Significance of candidate c against the best b (same data, same window, same recipe):
  * - Nested pairs (a mixture contains each of its parts: fraction 1 or 0 gives the part back, up
  *   to the grouping of msrd over the union of shells, so the nesting is approximate): Hamilton's
  *   R-ratio test (Hamilton, Acta Cryst. 18, 502 (1965)) with b = nu_full - nu_restricted
- *   restrictions and n = N_idp observations, via ../fit/statistics.
+ *   restrictions and n = N_ind observations, via ../fit/statistics.
  * - Non-nested pairs (different structures: the usual case): Hamilton's test does not apply
  *   strictly. We use the variance-ratio F-test of the two reduced chi-squares,
- *     F = (chi2_c / nu_c) / (chi2_b / nu_b),  p = P(F(nu_c, nu_b) > F),  nu = N_idp - n_varied,
+ *     F = (chi2_c / nu_c) / (chi2_b / nu_b),  p = P(F(nu_c, nu_b) > F),  nu = N_ind - n_varied,
  *   as an approximate guide: the two chi-squares come from the same data and are not independent,
  *   so p is indicative, not exact. With equal parameter counts F is simply the ratio of the
  *   R-factors (the form of Hamilton's ratio for equal parameter counts). Common practice, no source.
@@ -22,7 +22,7 @@
  * freedom left) is 'not distinguishable': there is no evidence against it.
  *
  * Resolution: shells of one species closer than dR = pi / (2 Dk) cannot be told apart by data over
- * a k range Dk (the Nyquist spacing behind N_idp = 2 Dk DR / pi; Stern, Phys. Rev. B 48, 9825
+ * a k range Dk (the Nyquist spacing behind N_ind = 2 Dk DR / pi; Stern, Phys. Rev. B 48, 9825
  * (1993)). Each candidate's shells inside the fitted range are merged into resolved shells (one
  * species, members within dR of the first; n summed, r the n-weighted mean). Two candidates whose
  * resolved shells agree (same species; n within `nTolerance` relative; r within `sameWithin` Å)

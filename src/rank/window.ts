@@ -9,7 +9,7 @@
  * R-filtered back-transform / eps_q), for the fast pre-screen that builds its model curve itself;
  * a test checks it against the problem's own residuals.
  */
-import { buildExafsProblem, type CompiledDataset, type FitSpace } from '../fit/exafs/problem';
+import { buildExafsProblem, type CompiledDataset, type FitDomain } from '../fit/exafs/problem';
 import type { NoiseBlock } from '../fit/noise-propagation';
 import { backTransform, forwardTransform } from '../numeric/fourier';
 import type { WindowShape } from '../numeric/window';
@@ -20,10 +20,10 @@ export interface WindowSettings {
   kRange: [number, number];
   /** R range of the fit, Å. */
   rRange: [number, number];
-  kWeights: number[];
-  space: FitSpace;
-  kWindow: { shape: WindowShape; taper: number };
-  rWindow: { shape: WindowShape; taper: number };
+  kWeightings: number[];
+  space: FitDomain;
+  kTaper: { shape: WindowShape; taper: number };
+  rTaper: { shape: WindowShape; taper: number };
 }
 
 /** Measured chi(k) as the ranking needs it. */
@@ -55,7 +55,7 @@ export function compileWindow(measured: MeasuredChi, settings: WindowSettings): 
     [{ name: 'amp', value: 1, state: 'fixed' }, { name: 'e0', value: 0, state: 'fixed' }],
     [{
       name: measured.name, k: measured.k, chi: measured.chi, noiseChi: measured.noiseChi, paths: [], tables: [], rules: [],
-      kRange: settings.kRange, kWeights: settings.kWeights, kWindow: settings.kWindow, rRange: settings.rRange, rWindow: settings.rWindow, space: settings.space,
+      kRange: settings.kRange, kWeightings: settings.kWeightings, kTaper: settings.kTaper, rRange: settings.rRange, rTaper: settings.rTaper, space: settings.space,
     }],
   );
   return {
@@ -78,14 +78,14 @@ export function projectChi(window: DataWindow, chi: Float64Array, out: Float64Ar
       for (const i of d.kInside) out[row++] = (scale * d.windowK[i] * Math.pow(d.modelK[i], w) * chi[i]) / noise.epsK;
       continue;
     }
-    const spectrum = forwardTransform(d.modelK, chi, { kWeighting: w, window: d.kWindow });
+    const spectrum = forwardTransform(d.modelK, chi, { kWeighting: w, window: d.kTaper });
     if (space === 'r') {
       const sigma = noise.epsR / Math.SQRT2;
       for (const j of d.rInside) out[row++] = (scale * spectrum.re[j]) / sigma;
       for (const j of d.rInside) out[row++] = (scale * spectrum.im[j]) / sigma;
       continue;
     }
-    const q = backTransform(spectrum, { window: d.rWindow });
+    const q = backTransform(spectrum, { window: d.rTaper });
     const dk = d.modelK[1] - d.modelK[0];
     for (const i of d.kInside) out[row++] = (scale * q.re[Math.round(d.modelK[i] / dk)]) / noise.epsQ;
   }

@@ -347,7 +347,7 @@ const STATISTICS: { key: keyof FitStatistics; title: string; titleLatex: string;
   { key: 'misfitRatio', title: 'misfit / noise', titleLatex: 'misfit / noise', digits: 3 },
   { key: 'aic', title: 'AIC', titleLatex: 'AIC', digits: 4 },
   { key: 'bic', title: 'BIC', titleLatex: 'BIC', digits: 4 },
-  { key: 'nIndependent', title: 'N_idp', titleLatex: '$N_\\mathrm{idp}$', digits: 3 },
+  { key: 'nIndependent', title: 'N_ind', titleLatex: '$N_\\mathrm{ind}$', digits: 3 },
   { key: 'nVaried', title: 'N_var', titleLatex: '$N_\\mathrm{var}$', digits: 3 },
 ];
 

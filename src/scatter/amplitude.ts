@@ -16,10 +16,10 @@
  * The Green's-function form of the golden rule (absorber Green's function plus the scattering term)
  * then gives, for an isotropic sample and a single final-state channel l,
  *   chi_l = (1 / (2l+1)) sum_m Re[ e^{2 i delta_l^c} rho_m ]
- *         = (-1)^l Im[ e^{2 i delta_l^c} e^{2ikR} f_eff,l ] / (k R^2),
- *   f_eff,l = (-1)^(l+1) k R^2 e^{-2ikR} sum_m rho_m / (i (2l+1)),
+ *         = (-1)^l Im[ e^{2 i delta_l^c} e^{2ikR} F_l ] / (k R^2),
+ *   F_l = (-1)^(l+1) k R^2 e^{-2ikR} sum_m rho_m / (i (2l+1)),
  * which tends to the plane-wave amplitude f(pi) = (1/k) sum_l (2l+1) (-1)^l t_l as kR -> infinity
- * (checked in the tests). For a pure s-wave scatterer and l = 1 it gives f_eff = f (1 + i/(kR))^2.
+ * (checked in the tests). For a pure s-wave scatterer and l = 1 it gives F = f (1 + i/(kR))^2.
  *
  * Edges: K and L1 (s core) -> final l = 1 only. L2 and L3 (p core) -> l = 2 and l = 0. For an
  * isotropic sample with the core m summed, the l = 0 / l = 2 cross term vanishes (the
@@ -73,7 +73,7 @@ export function iPower(n: number): [number, number] {
 }
 
 /**
- * Effective curved-wave amplitude f_eff,l (bohr, complex [re, im]) of one scatterer with phase
+ * Effective curved-wave amplitude F_l (bohr, complex [re, im]) of one scatterer with phase
  * shifts delta (re/im arrays, l' = 0..lmax) at distance R (bohr) and wave number k (1/bohr), for
  * final-state channel `coefficients.finalL`. Optionally a plane-wave flag replaces h_l''(kR) by its
  * asymptotic form (for comparisons).
@@ -151,7 +151,7 @@ export function edgeChannels(edge: 'K' | 'L1' | 'L2' | 'L3'): number[] {
 
 /**
  * Combine the channels into the one complex number Z with chi = Im[Z e^{2ikR}] / (k R^2):
- * Z = sum_l w_l (-1)^l e^{2 i delta_l^c} f_eff,l, with w_l normalised weights
+ * Z = sum_l w_l (-1)^l e^{2 i delta_l^c} F_l, with w_l normalised weights
  * (K, L1: w_1 = 1; L2,3: w_2 = 2 M_2^2 / (2 M_2^2 + M_0^2), w_0 = M_0^2 / (2 M_2^2 + M_0^2)).
  */
 export function combineChannels(channels: { l: number; weight: number; centralRe: number; centralIm: number; amplitude: [number, number] }[]): [number, number] {

@@ -14,9 +14,9 @@
  * i t_l' h_l' (t = e^{i delta} sin delta). Starting from h_l Y_lm at the absorber (final-state
  * channel l = 1 of a K or L1 edge) and translating leg by leg, the regular component in channel
  * (l, m) back at the absorber is rho_m, and as in ./amplitude (isotropic sample, m summed)
- *   chi = (-1)^l Im[e^{2 i delta_c} e^{ikL} f_eff] / (k R^2),
- *   f_eff = (-1)^(l+1) k R^2 e^{-ikL} sum_m rho_m / (i (2l+1)),  R = L / 2,
- * so Z = (-1)^l e^{2 i delta_c} f_eff. For one scatterer this is exactly ./amplitude's result (tested),
+ *   chi = (-1)^l Im[e^{2 i delta_c} e^{ikL} F] / (k R^2),
+ *   F = (-1)^(l+1) k R^2 e^{-ikL} sum_m rho_m / (i (2l+1)),  R = L / 2,
+ * so Z = (-1)^l e^{2 i delta_c} F. For one scatterer this is exactly ./amplitude's result (tested),
  * and for long legs it tends to the plane-wave Z of ./multiple-scattering (tested).
  */
 import { gaunt } from './angular';
@@ -166,12 +166,12 @@ export function collinearPathFactor(
     sumR += vr[l];
     sumI += vi[l];
   }
-  // f_eff = (-1)^(l+1) k R^2 sum / (i (2l+1)); 1/i: (a + ib)(-i) = b - ia
+  // F = (-1)^(l+1) k R^2 sum / (i (2l+1)); 1/i: (a + ib)(-i) = b - ia
   const fSign = l % 2 === 0 ? -1 : 1;
   const scale = (fSign * k * half * half) / (2 * l + 1);
   const fr = scale * sumI;
   const fi = -scale * sumR;
-  // Z = (-1)^l e^{2 i delta_c} f_eff
+  // Z = (-1)^l e^{2 i delta_c} F
   const mod = Math.exp(-2 * centralIm) * (l % 2 === 0 ? 1 : -1);
   const er = mod * Math.cos(2 * centralRe);
   const ei = mod * Math.sin(2 * centralRe);

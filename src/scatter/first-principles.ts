@@ -18,7 +18,7 @@
  *
  * The result is what the EXAFS model needs: amplitude |Z| (Å), total phase arg Z (continuous) and
  * lambda (Å) on the requested k grid, where chi = Im[Z e^{2ikR}] / (kR^2), Z = sum_l w_l (-1)^l
- * e^{2 i delta_l^c} f_eff,l, i.e. phase = 2 delta_c - l pi + arg f_eff for a single channel. The
+ * e^{2 i delta_l^c} F_l, i.e. phase = 2 delta_c - l pi + arg F for a single channel. The
  * amplitude includes |e^{2 i delta_c}| (central-atom losses) when the absorber's delta is complex.
  *
  * Losses are counted once each (our derivation): the sphere potentials are taken relative to the
@@ -241,8 +241,8 @@ function continueModPi(values: Float64Array): void {
 
 /** Hydrogenic 2p radial function (unnormalised) with Slater screening, for L2,3 matrix elements. */
 function core2p(z: number, r: number): number {
-  const zEff = Math.max(z - 4.15, 1);
-  return r * Math.exp((-zEff * r) / 2);
+  const zEffective = Math.max(z - 4.15, 1);
+  return r * Math.exp((-zEffective * r) / 2);
 }
 
 /**

@@ -1,6 +1,6 @@
 /**
  * The ScatteringProvider contract: for one absorber-scatterer pair at one distance, give the
- * effective backscattering amplitude |f_eff(k)|, the total phase and the mean free path on a
+ * effective backscattering amplitude |F(k)|, the total phase and the mean free path on a
  * k grid. The EXAFS model (src/model/exafs.ts) consumes these as
  *   chi_j(k) = S0^2 N_j |f_j(k)| / (k R_j^2) exp(-2 k^2 sigma_j^2) exp(-2 R_j / lambda(k))
  *              * sin(2 k R_j + phase_j(k)),
@@ -51,7 +51,7 @@ export interface ScatteringTableInfo {
 
 export interface ScatteringTable {
   k: Float64Array;
-  /** |f_eff(k)| in Å. */
+  /** |F(k)| in Å. */
   amplitude: Float64Array;
   /** Total phase (radians), continuous in k. */
   phase: Float64Array;

@@ -9,7 +9,7 @@ import { absorberAndEdgeFromData } from '../../fit/exafs/absorber-from-data';
 import { loadChiOrReduce, type LoadedChi } from '../../fit/exafs/data';
 import { fitStructure, DEFAULT_FIT_SETTINGS, type StructureFitSettings } from '../../fit/exafs/fit-structure';
 import { fitDocument } from '../../fit/exafs/document';
-import { FIT_SPACES, type FitSpace } from '../../fit/exafs/problem';
+import { FIT_DOMAINS, type FitDomain } from '../../fit/exafs/problem';
 import { resolve } from 'node:path';
 import type { CliIo } from '../io';
 import { emit, toJson } from '../output';
@@ -39,7 +39,7 @@ export function addFitOptions(command: Command): Command {
     .option('--k <min:max>', 'k range of the fit, 1/Å', `${DEFAULT_FIT_SETTINGS.kRange[0]}:${DEFAULT_FIT_SETTINGS.kRange[1]}`)
     .option('--r <min:max>', 'R range of the fit, Å', `${DEFAULT_FIT_SETTINGS.rRange[0]}:${DEFAULT_FIT_SETTINGS.rRange[1]}`)
     .option('--kw <weights>', 'k-weight, or several separated by commas (e.g. 1,2,3)', '2')
-    .option('--space <space>', `fit space: ${FIT_SPACES.join(', ')}`, DEFAULT_FIT_SETTINGS.space)
+    .option('--space <space>', `fit space: ${FIT_DOMAINS.join(', ')}`, DEFAULT_FIT_SETTINGS.space)
     .option('--amp <value>', "S0^2: a fixed value, or 'free'", String(DEFAULT_FIT_SETTINGS.amp))
     .option('--amp-from <fit.json>', 'fix S0^2 at the value of an earlier fit of a reference compound')
     .option('--starts <n>', 'number of starts (more than 1 adds seeded random starts)', '1')
@@ -73,8 +73,8 @@ export function ampFromFit(path: string): number {
 }
 
 export function parseFitOptions(raw: FitCliOptions): StructureFitSettings {
-  if (!(FIT_SPACES as readonly string[]).includes(raw.space)) throw new InputError(`unknown fit space '${raw.space}' (expected ${FIT_SPACES.join(', ')})`, { key: '--space' });
-  const kWeights = raw.kw.split(',').map((w) => parseNumber('--kw', w, { min: 0, max: 4 }));
+  if (!(FIT_DOMAINS as readonly string[]).includes(raw.space)) throw new InputError(`unknown fit space '${raw.space}' (expected ${FIT_DOMAINS.join(', ')})`, { key: '--space' });
+  const kWeightings = raw.kw.split(',').map((w) => parseNumber('--kw', w, { min: 0, max: 4 }));
   let amp: number | 'free';
   if (raw.ampFrom !== undefined) amp = ampFromFit(raw.ampFrom);
   else amp = raw.amp === 'free' ? 'free' : parseNumber('--amp', raw.amp, { min: 0, exclusiveMin: true });
@@ -82,8 +82,8 @@ export function parseFitOptions(raw: FitCliOptions): StructureFitSettings {
     ...DEFAULT_FIT_SETTINGS,
     kRange: parseRange('--k', raw.k),
     rRange: parseRange('--r', raw.r),
-    kWeights,
-    space: raw.space as FitSpace,
+    kWeightings,
+    space: raw.space as FitDomain,
     amp,
     starts: parseInteger('--starts', raw.starts, 1),
     maxIterations: parseInteger('--max-iterations', raw.maxIterations, 1),
@@ -120,7 +120,7 @@ export function registerFit(program: Command, io: CliIo): void {
         emit(io, toJson(doc, 10), raw.out, [dataFile, structureFile]);
       } else {
         const lines = [
-          `fit of ${structureFile} to ${dataFile} (${set.absorber} ${set.edge} edge, ${settings.space} space, k ${settings.kRange.join('-')} 1/Å, R ${settings.rRange.join('-')} Å, k-weight ${settings.kWeights.join(',')})`,
+          `fit of ${structureFile} to ${dataFile} (${set.absorber} ${set.edge} edge, ${settings.space} space, k ${settings.kRange.join('-')} 1/Å, R ${settings.rRange.join('-')} Å, k-weight ${settings.kWeightings.join(',')})`,
           data.reducedHere ? `data reduced here with default settings: E0 = ${data.chi.e0.toFixed(2)} eV, edge step ${data.chi.edgeStep.toPrecision(4)}` : 'data: saved reduction',
           ...fitResultLines(result, { showParameter: (n) => n === 'amp' || n === 'e0', recipe: result.recipe }),
         ];

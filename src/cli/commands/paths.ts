@@ -66,9 +66,9 @@ export function registerPaths(program: Command, io: CliIo): void {
         emit(io, toJson(doc, 8), raw.out, [file]);
         return;
       }
-      const head = `${set.absorber} ${set.edge} edge, ${set.sites} absorber site${set.sites === 1 ? '' : 's'} averaged, paths up to ${settings.maxLegs} legs and R_eff ${maxHalfLength} Å of ${file}\n`
+      const head = `${set.absorber} ${set.edge} edge, ${set.sites} absorber site${set.sites === 1 ? '' : 's'} averaged, paths up to ${settings.maxLegs} legs and R_half ${maxHalfLength} Å of ${file}\n`
         + `${paths.length} of ${found} paths at least ${settings.minImportance} of the strongest shell (importance: mean over k ${settings.kRange[0]}-${settings.kRange[1]} 1/Å of N |F| exp(-2R/lambda) / R^2, provider ${provider.name})\n\n`;
-      emit(io, head + textTable(['path', 'legs', 'R_eff (Å)', 'n', 'importance', 'atoms', 'leg lengths (Å)'], paths.map(row)), raw.out, [file]);
+      emit(io, head + textTable(['path', 'legs', 'R_half (Å)', 'n', 'importance', 'atoms', 'leg lengths (Å)'], paths.map(row)), raw.out, [file]);
     });
 }
 

@@ -10,7 +10,7 @@ import { ComputationError, InputError } from '../../core/errors';
 import { makeProvenance, type InputRecord } from '../../core/provenance';
 import { absorberAndEdgeFromData } from '../../fit/exafs/absorber-from-data';
 import { loadChiOrReduce } from '../../fit/exafs/data';
-import { FIT_SPACES, type FitSpace } from '../../fit/exafs/problem';
+import { FIT_DOMAINS, type FitDomain } from '../../fit/exafs/problem';
 import { WINDOW_SHAPES, type WindowShape } from '../../numeric/window';
 import { DEFAULT_PROVIDER } from '../../scatter/registry';
 import type { Chi } from '../../reduce/chi';
@@ -87,7 +87,7 @@ export function addRankOptions(command: Command): Command {
     .option('--k <min:max>', 'k range of the fit, 1/Å (default 3:14, or 3 to the end of the data)')
     .option('--r <min:max>', 'R range of the fit, Å', '1.2:3.6')
     .option('--kw <weights>', 'k-weight, or several separated by commas', '2')
-    .option('--space <space>', `fit space: ${FIT_SPACES.join(', ')}`, 'r')
+    .option('--space <space>', `fit space: ${FIT_DOMAINS.join(', ')}`, 'r')
     .option('--window <shape>', `k and R window shape (${WINDOW_SHAPES.join(', ')})`, 'hann')
     .option('--taper <width>', 'k window taper, 1/Å', '1')
     .option('--r-taper <width>', 'R window taper, Å', '0.5')
@@ -136,7 +136,7 @@ export function withDataAbsorber(options: RankOptionsBeforeData, chi: Chi, dataF
 /** The ranking options in library form. */
 export function parseRankOptions(raw: RankCliOptions, io: CliIo): { options: RankOptionsBeforeData; ranking: RankingOptions & { refineTop: number } } {
   if (!(WINDOW_SHAPES as readonly string[]).includes(raw.window)) throw new InputError(`unknown window '${raw.window}' (expected one of ${WINDOW_SHAPES.join(', ')})`, { key: '--window' });
-  if (!(FIT_SPACES as readonly string[]).includes(raw.space)) throw new InputError(`unknown fit space '${raw.space}' (expected one of ${FIT_SPACES.join(', ')})`, { key: '--space' });
+  if (!(FIT_DOMAINS as readonly string[]).includes(raw.space)) throw new InputError(`unknown fit space '${raw.space}' (expected one of ${FIT_DOMAINS.join(', ')})`, { key: '--space' });
   const shape = raw.window as WindowShape;
   const disorderGiven = [raw.debyeTemp, raw.einsteinTemp, raw.msrd].filter((x) => x !== undefined).length;
   if (disorderGiven > 1) throw new InputError('give only one of --debye-temp, --einstein-temp and --msrd', { key: '--debye-temp' });
@@ -151,16 +151,16 @@ export function parseRankOptions(raw: RankCliOptions, io: CliIo): { options: Ran
   else if (raw.amp !== undefined && raw.amp !== 'free') amp = parseNumber('--amp', raw.amp, { min: 0, exclusiveMin: true });
   if (raw.distances !== undefined && raw.distances !== 'expand' && raw.distances !== 'fixed') throw new InputError(`expected 'expand' or 'fixed', got '${raw.distances}'`, { key: '--distances' });
   if (!['auto', 'own', 'shared'].includes(raw.tables)) throw new InputError(`expected 'auto', 'own' or 'shared', got '${raw.tables}'`, { key: '--tables' });
-  const kWeights = raw.kw.split(',').map((w) => parseNumber('--kw', w, { min: 0, max: 4 }));
+  const kWeightings = raw.kw.split(',').map((w) => parseNumber('--kw', w, { min: 0, max: 4 }));
   const options: RankOptionsBeforeData = {
     absorber: raw.absorber !== undefined ? parseAbsorberSelector(raw.absorber) : undefined,
     edge: raw.edge !== undefined ? parseEdgeOption(raw.edge) : undefined,
     tolerance: parseNumber('--tolerance', raw.tolerance, { min: 0 }),
     rRange: parseRange('--r', raw.r),
-    kWeights,
-    space: raw.space as FitSpace,
-    kWindow: { shape, taper: parseNumber('--taper', raw.taper, { min: 0 }) },
-    rWindow: { shape, taper: parseNumber('--r-taper', raw.rTaper, { min: 0 }) },
+    kWeightings,
+    space: raw.space as FitDomain,
+    kTaper: { shape, taper: parseNumber('--taper', raw.taper, { min: 0 }) },
+    rTaper: { shape, taper: parseNumber('--r-taper', raw.rTaper, { min: 0 }) },
     pathMargin: parseNumber('--margin', raw.margin, { min: 0 }),
     bandWidth: parseNumber('--band', raw.band, { min: 0 }),
     amp,

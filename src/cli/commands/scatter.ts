@@ -31,7 +31,7 @@ interface ScatterCliOptions {
 export function registerScatter(program: Command, io: CliIo): void {
   program
     .command('scatter')
-    .description('compute first-principles scattering functions (|f_eff|, total phase, mean free path) of one absorber-scatterer pair')
+    .description('compute first-principles scattering functions (effective amplitude |F(k)|, total phase, mean free path) of one absorber-scatterer pair')
     .argument('<absorber>', 'absorbing element, e.g. Cu')
     .argument('<scatterer>', 'scattering element, e.g. O')
     .requiredOption('--r <angstrom>', 'absorber-scatterer distance, Å')
@@ -61,7 +61,7 @@ export function registerScatter(program: Command, io: CliIo): void {
       if (raw.plot !== undefined) {
         const svg = renderLinePanels(
           [
-            { title: `${absorber} ${edge}-edge, ${scatterer} at ${distance} Å`, xLabel: 'k (1/Å)', yLabel: '|f_eff| (Å)', series: [{ label: '|f_eff|', x: k, y: table.amplitude }] },
+            { title: `${absorber} ${edge}-edge, ${scatterer} at ${distance} Å`, xLabel: 'k (1/Å)', yLabel: '|F(k)| (Å)', series: [{ label: '|F(k)|', x: k, y: table.amplitude }] },
             { title: 'total phase', xLabel: 'k (1/Å)', yLabel: 'phase (rad)', series: [{ label: 'phase', x: k, y: table.phase }] },
             { title: 'mean free path', xLabel: 'k (1/Å)', yLabel: 'lambda (Å)', series: [{ label: 'lambda', x: k, y: table.meanFreePath }] },
           ],
@@ -76,7 +76,7 @@ export function registerScatter(program: Command, io: CliIo): void {
       }
       const rows = Array.from(k, (kv, i) => [kv.toFixed(2), table.amplitude[i].toFixed(5), table.phase[i].toFixed(5), table.meanFreePath[i].toFixed(3)]);
       const header = `# ${absorber} ${edge}-edge absorber, ${scatterer} scatterer at ${distance} Å; provider ${table.info.provider} (${table.info.hash})\n` +
-        `# phase = 2 delta_c - l pi + arg f_eff; values below k = ${String(table.info.settings.kFloor)} 1/Å are held at that k\n`;
-      emit(io, header + textTable(['k (1/Å)', '|f_eff| (Å)', 'phase (rad)', 'lambda (Å)'], rows), raw.out, []);
+        `# phase = 2 delta_c - l pi + arg F; values below k = ${String(table.info.settings.kFloor)} 1/Å are held at that k\n`;
+      emit(io, header + textTable(['k (1/Å)', '|F(k)| (Å)', 'phase (rad)', 'lambda (Å)'], rows), raw.out, []);
     });
 }

@@ -21,7 +21,7 @@ interface SimulateCliOptions extends StructureCliOptions {
   amp: string;
   e0: string;
   kw: string;
-  kWindow: string;
+  k: string;
   window: string;
   taper: string;
   rmax?: string;
@@ -107,7 +107,7 @@ export function registerSimulate(program: Command, io: CliIo): void {
     .option('--e0 <ev>', 'E0 shift in eV', '0')
     .option('--rmax <angstrom>', 'include only shells up to this distance')
     .option('--kw <weight>', 'k-weight of the Fourier transform', '2')
-    .option('--k-window <min:max>', 'k range of the Fourier transform window, 1/Å', '3:14')
+    .option('--k <min:max>', 'k range of the Fourier transform window, 1/Å', '3:14')
     .option('--window <shape>', `window shape (${WINDOW_SHAPES.join(', ')})`, 'hann')
     .option('--taper <width>', 'window taper width, 1/Å', '1')
     .option('--provider <name>', 'scattering provider (firstPrinciples, or parametric: approximate, for tests)', DEFAULT_PROVIDER)
@@ -121,7 +121,7 @@ export function registerSimulate(program: Command, io: CliIo): void {
       if (!(WINDOW_SHAPES as readonly string[]).includes(raw.window)) {
         throw new InputError(`unknown window '${raw.window}' (expected one of ${WINDOW_SHAPES.join(', ')})`, { key: '--window' });
       }
-      const [wmin, wmax] = parseRange('--k-window', raw.kWindow);
+      const [wmin, wmax] = parseRange('--k', raw.k);
       const loaded = loadStructureFile(file, { format: o.format });
       const structure = pickFrame(loaded, o.frame);
       const set = shellsOfStructure(structure, { absorber: o.absorber, radius: o.radius, tolerance: o.tolerance, edge: o.edge, structureHash: loaded.sha256 });

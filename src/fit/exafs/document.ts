@@ -60,10 +60,10 @@ export type FitDocument = ReturnType<typeof fitDocument>;
 
 /** The window settings of one data set that its curves record. */
 export interface CurveSettings {
-  kWeights: readonly number[];
+  kWeightings: readonly number[];
   kRange: readonly [number, number] | number[];
   rRange: readonly [number, number] | number[];
-  kWindow: { shape: string; taper: number };
+  kTaper: { shape: string; taper: number };
 }
 
 /**
@@ -74,11 +74,11 @@ export function curvesOf(result: ExafsFitResult, index: number, s: CurveSettings
   const c = result.curves[index];
   return {
     name: c.name,
-    kWeighting: s.kWeights[0],
+    kWeighting: s.kWeightings[0],
     k: c.k,
     data: c.data,
     model: c.model,
-    window: { shape: s.kWindow.shape, min: s.kRange[0], max: s.kRange[1], taper: s.kWindow.taper },
+    window: { shape: s.kTaper.shape, min: s.kRange[0], max: s.kRange[1], taper: s.kTaper.taper },
     rRange: s.rRange,
     shells: result.shells.filter((sh) => sh.dataset === c.name).map((sh, i) => ({ label: sh.id, chi: c.perPath[i] })),
   };

@@ -9,18 +9,18 @@ import { approximateTablesWarnings, type ScatteringProvider } from '../../scatte
 import type { WindowShape } from '../../numeric/window';
 import type { Chi } from '../../reduce/index';
 import { InputError } from '../../core/errors';
-import { buildExafsProblem, type FitSpace } from './problem';
+import { buildExafsProblem, type FitDomain } from './problem';
 import { defaultRecipe } from './recipe';
 import { refine, type ExafsFitResult } from './refine';
 
 export interface StructureFitSettings {
   kRange: [number, number];
   rRange: [number, number];
-  kWeights: number[];
-  space: FitSpace;
+  kWeightings: number[];
+  space: FitDomain;
   amp: number | 'free';
-  kWindow: { shape: WindowShape; taper: number };
-  rWindow: { shape: WindowShape; taper: number };
+  kTaper: { shape: WindowShape; taper: number };
+  rTaper: { shape: WindowShape; taper: number };
   pathMargin: number;
   starts: number;
   maxIterations: number;
@@ -29,11 +29,11 @@ export interface StructureFitSettings {
 export const DEFAULT_FIT_SETTINGS: StructureFitSettings = {
   kRange: [3, 14],
   rRange: [1, 3.2],
-  kWeights: [2],
+  kWeightings: [2],
   space: 'r',
   amp: 0.9,
-  kWindow: { shape: 'hann', taper: 1 },
-  rWindow: { shape: 'hann', taper: 0.5 },
+  kTaper: { shape: 'hann', taper: 1 },
+  rTaper: { shape: 'hann', taper: 0.5 },
   pathMargin: 0.5,
   starts: 1,
   maxIterations: 200,
@@ -48,10 +48,10 @@ export function fitStructure(chi: Chi, pathSet: PathSet, provider: ScatteringPro
   const s: StructureFitSettings = { ...DEFAULT_FIT_SETTINGS, ...settings };
   checkEdgeMatches(chi, pathSet, name);
   const recipe = defaultRecipe(pathSet, { rMax: s.rRange[1], pathMargin: s.pathMargin, amp: s.amp });
-  const tables = tablesForPaths(pathSet, recipe.paths, provider, s.kRange[1] + s.kWindow.taper);
+  const tables = tablesForPaths(pathSet, recipe.paths, provider, s.kRange[1] + s.kTaper.taper);
   const problem = buildExafsProblem(recipe.parameters, [{
     name, k: chi.k, chi: chi.chi, noiseChi: chi.noise.k, paths: recipe.paths, tables, rules: recipe.rules,
-    kRange: s.kRange, kWeights: s.kWeights, kWindow: s.kWindow, rRange: s.rRange, rWindow: s.rWindow, space: s.space,
+    kRange: s.kRange, kWeightings: s.kWeightings, kTaper: s.kTaper, rRange: s.rRange, rTaper: s.rTaper, space: s.space,
   }]);
   const used = { ...s, provider: provider.name };
   const result = refine(problem, { starts: s.starts, maxIterations: s.maxIterations }, { ...used, recipe: recipe.description }, [...inputs, { role: 'paths', sha256: pathSet.provenance.id }]);

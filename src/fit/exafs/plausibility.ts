@@ -2,7 +2,7 @@
  * Plausibility checks of a refined EXAFS fit: a fit can converge with a small R-factor and still
  * return values no physical sample has. Checked here, on the values alone (no data needed):
  * - a negative msrd (sigma^2, a mean square, cannot be below zero) of any shell;
- * - an amplitude reduction factor S0^2 outside MIN_S02..MAX_S02;
+ * - an amplitude reduction factor S0^2 outside MIN_S0SQ..MAX_S0SQ;
  * - an energy shift |e0| above MAX_ABS_E0;
  * - a fitted distance that moved more than MAX_RELATIVE_DISTANCE_SHIFT from the structure's own
  *   distance for that shell (the model's shells then no longer describe that structure);
@@ -14,9 +14,9 @@
  */
 
 /** Smallest accepted S0^2 (common practice, no source). */
-export const MIN_S02 = 0.6;
+export const MIN_S0SQ = 0.6;
 /** Largest accepted S0^2 (common practice, no source). */
-export const MAX_S02 = 1.2;
+export const MAX_S0SQ = 1.2;
 /** Largest accepted |e0| in eV (common practice, no source). */
 export const MAX_ABS_E0 = 10;
 /** Largest accepted |r - r0| / r0 of a shell (3 %; common practice, no source). */
@@ -30,7 +30,7 @@ export const MIN_MSRD = 0;
  */
 export const BOUND_TOLERANCE = 1e-6;
 
-export type PlausibilityCode = 'negative-msrd' | 's02-range' | 'e0-range' | 'distance-shift' | 'at-bound' | 'not-converged';
+export type PlausibilityCode = 'negative-msrd' | 's0sq-range' | 'e0-range' | 'distance-shift' | 'at-bound' | 'not-converged';
 
 export interface PlausibilityWarning {
   code: PlausibilityCode;
@@ -65,10 +65,10 @@ export function plausibilityWarnings(input: PlausibilityInput): PlausibilityWarn
   const inSet = (name: string) => (several ? ` in data set ${name}` : '');
   for (const d of input.datasets) {
     const ampName = d.ampExpression ?? 'amp';
-    if (d.amp < MIN_S02 || d.amp > MAX_S02) {
+    if (d.amp < MIN_S0SQ || d.amp > MAX_S0SQ) {
       out.push({
-        code: 's02-range', parameter: ampName, ...(several ? { dataset: d.name } : {}), value: d.amp, limit: d.amp < MIN_S02 ? MIN_S02 : MAX_S02,
-        message: `S0^2 (${ampName}) = ${d.amp.toFixed(3)}${inSet(d.name)} is outside ${MIN_S02}-${MAX_S02}: check the coordination numbers, the normalisation or the structure`,
+        code: 's0sq-range', parameter: ampName, ...(several ? { dataset: d.name } : {}), value: d.amp, limit: d.amp < MIN_S0SQ ? MIN_S0SQ : MAX_S0SQ,
+        message: `S0^2 (${ampName}) = ${d.amp.toFixed(3)}${inSet(d.name)} is outside ${MIN_S0SQ}-${MAX_S0SQ}: check the coordination numbers, the normalisation or the structure`,
       });
     }
     const e0Name = d.e0Expression ?? 'e0';

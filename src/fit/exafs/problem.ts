@@ -25,8 +25,8 @@ import { defineParameters, type ParameterSet, type ParameterSpec } from '../para
 import { independentPoints } from '../statistics';
 import { noiseBlock, type NoiseBlock } from '../noise-propagation';
 
-export type FitSpace = 'k' | 'r' | 'q';
-export const FIT_SPACES: readonly FitSpace[] = ['k', 'r', 'q'];
+export type FitDomain = 'k' | 'r' | 'q';
+export const FIT_DOMAINS: readonly FitDomain[] = ['k', 'r', 'q'];
 
 /** How one path's quantities follow from the parameters: each an expression (often just a name). */
 export interface PathRule {
@@ -52,11 +52,11 @@ export interface FitDataset {
   amp?: string;
   e0?: string;
   kRange: [number, number];
-  kWeights: readonly number[];
-  kWindow: { shape: WindowShape; taper: number };
+  kWeightings: readonly number[];
+  kTaper: { shape: WindowShape; taper: number };
   rRange: [number, number];
-  rWindow: { shape: WindowShape; taper: number };
-  space: FitSpace;
+  rTaper: { shape: WindowShape; taper: number };
+  space: FitDomain;
 }
 
 /** A compiled, ready-to-evaluate refinement problem. */
@@ -89,8 +89,8 @@ export interface CompiledDataset {
   pathIndices: Int32Array; // 5 per path
   /** Model grid: data grid points up to the end of the k window support. */
   modelK: Float64Array;
-  kWindow: WindowSpec;
-  rWindow: WindowSpec;
+  kTaper: WindowSpec;
+  rTaper: WindowSpec;
   /** Window values on modelK. */
   windowK: Float64Array;
   /** Per k-weight: uniform noise of k^w chi W and, for q space, of the filtered signal. */
@@ -116,10 +116,10 @@ export interface DatasetCurves {
 const QUANTITIES = ['n', 'r', 'msrd', 'c3', 'c4'] as const;
 
 /** Pad the fit window's support by its taper and check the data reach it. */
-function modelGrid(spec: FitDataset): { modelK: Float64Array; kWindow: WindowSpec } {
+function modelGrid(spec: FitDataset): { modelK: Float64Array; kTaper: WindowSpec } {
   const [kMin, kMax] = spec.kRange;
-  const kWindow: WindowSpec = { shape: spec.kWindow.shape, min: kMin, max: kMax, taper: spec.kWindow.taper };
-  const end = kMax + spec.kWindow.taper / 2;
+  const kTaper: WindowSpec = { shape: spec.kTaper.shape, min: kMin, max: kMax, taper: spec.kTaper.taper };
+  const end = kMax + spec.kTaper.taper / 2;
   const kLast = spec.k[spec.k.length - 1];
   // the data may stop up to two grid steps short of the range end (grids rarely land on it)
   if (kMax > kLast + 2 * (spec.k[1] - spec.k[0]) + 1e-9) {
@@ -128,7 +128,7 @@ function modelGrid(spec: FitDataset): { modelK: Float64Array; kWindow: WindowSpe
   if (kMin < spec.k[0]) throw new InputError(`the data start at k = ${spec.k[0]}, above the fit range start ${kMin}`, { key: '--k', file: spec.name });
   let count = 0;
   while (count < spec.k.length && spec.k[count] <= end + 1e-9) count++;
-  return { modelK: spec.k.slice(0, count), kWindow };
+  return { modelK: spec.k.slice(0, count), kTaper };
 }
 
 /** Options of {@link buildExafsProblem}. */
@@ -153,7 +153,7 @@ export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets
     if (d.paths.length !== d.tables.length || d.paths.length !== d.rules.length) {
       throw new InputError(`data set ${d.name}: ${d.paths.length} paths, ${d.tables.length} tables and ${d.rules.length} path rules must match`);
     }
-    if (d.kWeights.length === 0) throw new InputError('at least one k-weight is needed', { key: '--kw' });
+    if (d.kWeightings.length === 0) throw new InputError('at least one k-weight is needed', { key: '--kw' });
     return {
       amp: internal(`_d${di}_amp`, d.amp ?? 'amp'),
       e0: internal(`_d${di}_e0`, d.e0 ?? 'e0'),
@@ -163,24 +163,24 @@ export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets
   const set = defineParameters(specs);
   const compiled: CompiledDataset[] = [];
   let offset = 0;
-  let nIdp = 0;
+  let nInd = 0;
   datasets.forEach((spec, di) => {
-    const { modelK, kWindow } = modelGrid(spec);
+    const { modelK, kTaper } = modelGrid(spec);
     const [rMin, rMax] = spec.rRange;
     if (!(rMax > rMin) || rMin < 0) throw new InputError(`bad R range ${rMin}:${rMax}`, { key: '--r' });
-    const rWindow: WindowSpec = { shape: spec.rWindow.shape, min: rMin, max: rMax, taper: spec.rWindow.taper };
-    const windowK = windowOnGrid(kWindow, modelK);
+    const rTaper: WindowSpec = { shape: spec.rTaper.shape, min: rMin, max: rMax, taper: spec.rTaper.taper };
+    const windowK = windowOnGrid(kTaper, modelK);
     const dk = modelK[1] - modelK[0];
     const kInside = Int32Array.from([...modelK.keys()].filter((i) => modelK[i] >= spec.kRange[0] - 1e-9 && modelK[i] <= spec.kRange[1] + 1e-9));
     // R grid of a 2048-point transform of this k step
     const dr = Math.PI / (2048 * dk);
     const rInside = Int32Array.from(Array.from({ length: 1024 }, (_, j) => j).filter((j) => j * dr >= rMin - 1e-9 && j * dr <= rMax + 1e-9));
-    const rWindowSquared = (() => {
+    const rTaperSquared = (() => {
       let s = 0;
-      for (let j = 0; j < 1024; j++) { const w = windowOnGrid(rWindow, Float64Array.of(j * dr))[0]; s += w * w * dr; }
+      for (let j = 0; j < 1024; j++) { const w = windowOnGrid(rTaper, Float64Array.of(j * dr))[0]; s += w * w * dr; }
       return s;
     })();
-    const noise = spec.kWeights.map((w) => {
+    const noise = spec.kWeightings.map((w) => {
       let s = 0;
       for (const i of kInside) s += (Math.pow(modelK[i], w) * windowK[i]) ** 2;
       const rmsWeight = Math.sqrt(s / kInside.length);
@@ -191,18 +191,18 @@ export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets
       let sw = 0;
       for (let i = 0; i < modelK.length; i++) sw += (Math.pow(modelK[i], w) * windowK[i]) ** 2 * dk;
       const epsR = spec.noiseChi * Math.sqrt(sw / (2 * (Math.PI / (2 * dk))));
-      const epsQ = epsK * Math.sqrt(rWindowSquared / (Math.PI / (2 * dk)));
+      const epsQ = epsK * Math.sqrt(rTaperSquared / (Math.PI / (2 * dk)));
       if (!(epsK > 0) || !Number.isFinite(epsK)) throw new InputError(`data set ${spec.name}: the noise estimate ${spec.noiseChi} is not a positive number`);
       return { kWeighting: w, epsK, epsR, epsQ };
     });
     const perWeight = spec.space === 'r' ? 2 * rInside.length : kInside.length;
-    const length = perWeight * spec.kWeights.length;
-    const idp = independentPoints(spec.kRange[0], spec.kRange[1], rMin, rMax);
-    nIdp += idp;
+    const length = perWeight * spec.kWeightings.length;
+    const ind = independentPoints(spec.kRange[0], spec.kRange[1], rMin, rMax);
+    nInd += ind;
     const pathIndices = Int32Array.from(layout[di].paths.map((n) => set.indexOf(n)));
     compiled.push({
       spec, ampIndex: set.indexOf(layout[di].amp), e0Index: set.indexOf(layout[di].e0), pathIndices,
-      modelK, kWindow, rWindow, windowK, noise, kInside, rInside, offset, length, nIndependent: idp,
+      modelK, kTaper, rTaper, windowK, noise, kInside, rInside, offset, length, nIndependent: ind,
     });
     offset += length;
   });
@@ -232,14 +232,14 @@ export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets
         continue;
       }
       const diff = subtract ? Float64Array.from(column, (v, i) => v - subtract[i]) : column;
-      const spectrum = forwardTransform(d.modelK, diff, { kWeighting: w, window: d.kWindow });
+      const spectrum = forwardTransform(d.modelK, diff, { kWeighting: w, window: d.kTaper });
       if (d.spec.space === 'r') {
         const sigma = noise.epsR / Math.SQRT2;
         for (const j of d.rInside) out[row++ * stride + col] = spectrum.re[j] / sigma;
         for (const j of d.rInside) out[row++ * stride + col] = spectrum.im[j] / sigma;
         continue;
       }
-      const q = backTransform(spectrum, { window: d.rWindow });
+      const q = backTransform(spectrum, { window: d.rTaper });
       for (const i of d.kInside) {
         // the q grid of the back-transform starts at 0 with the same step as modelK (grid offset handled by index)
         const qi = Math.round(d.modelK[i] / (d.modelK[1] - d.modelK[0]));
@@ -319,13 +319,13 @@ export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets
     return blocks;
   };
 
-  return { parameters: set, userParameterCount: parameters.length, datasets: compiled, nResiduals, nIndependent: nIdp, residuals, jacobian, curves, data, noiseBlocks };
+  return { parameters: set, userParameterCount: parameters.length, datasets: compiled, nResiduals, nIndependent: nInd, residuals, jacobian, curves, data, noiseBlocks };
 }
 
 /** Everything a noise block depends on (see {@link BuildOptions.noiseCache}). */
 function noiseKey(d: CompiledDataset): string {
   const k = d.modelK;
-  return JSON.stringify([d.spec.space, k.length, k[0], k[1] - k[0], d.spec.noiseChi, d.noise, d.kWindow, d.rWindow, d.kInside.length, d.rInside.length, d.length]);
+  return JSON.stringify([d.spec.space, k.length, k[0], k[1] - k[0], d.spec.noiseChi, d.noise, d.kTaper, d.rTaper, d.kInside.length, d.rInside.length, d.length]);
 }
 
 /** Points of a data set's model grid that reach its residuals: the support of the k window. */
@@ -368,7 +368,7 @@ export function noiseMatrix(d: CompiledDataset): { columns: number[]; matrix: Fl
       re[j] = scale * Math.cos(phase);
       im[j] = scale * Math.sin(phase);
     }
-    const q = backTransform({ x, re, im }, { window: d.rWindow });
+    const q = backTransform({ x, re, im }, { window: d.rTaper });
     // Re h(delta) = q.re[g - |delta|]
     kernel = Float64Array.from({ length: half }, (_, delta) => q.re[g - delta]);
   }

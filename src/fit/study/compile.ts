@@ -444,7 +444,7 @@ export function prepareStudy(study: StudyFile, options: PrepareOptions): Prepare
   for (const ds of loaded) byFile.set(resolve(ds.settings.data), [...(byFile.get(resolve(ds.settings.data)) ?? []), ds.settings.name]);
   for (const names of byFile.values()) {
     if (names.length > 1) {
-      warnings.push(`data sets ${names.slice(0, -1).join(', ')} and ${names[names.length - 1]} read the same data file: its independent points are counted once per data set, which overstates them; one data set with several kWeights counts them once`);
+      warnings.push(`data sets ${names.slice(0, -1).join(', ')} and ${names[names.length - 1]} read the same data file: its independent points are counted once per data set, which overstates them; one data set with several kWeightings counts them once`);
     }
   }
   for (const spec of user) {
@@ -463,11 +463,11 @@ export function prepareStudy(study: StudyFile, options: PrepareOptions): Prepare
     const d = ds.settings;
     const shells = prepared[i].shells;
     const paths = shells.map((s) => s.path);
-    const tables = at(study.where(['datasets', d.index]), file, () => tablesForPaths(ds.pathSet, paths, provider, d.kRange[1] + d.kWindow.taper));
+    const tables = at(study.where(['datasets', d.index]), file, () => tablesForPaths(ds.pathSet, paths, provider, d.kRange[1] + d.kTaper.taper));
     const fit: FitDataset = {
       name: d.name, k: ds.data.chi.k, chi: ds.data.chi.chi, noiseChi: ds.data.chi.noise.k, paths, tables,
       rules: shells.map((s) => s.expressions), amp: prepared[i].amp, e0: prepared[i].e0,
-      kRange: d.kRange, kWeights: d.kWeights, kWindow: d.kWindow, rRange: d.rRange, rWindow: d.rWindow, space: d.space,
+      kRange: d.kRange, kWeightings: d.kWeightings, kTaper: d.kTaper, rRange: d.rRange, rTaper: d.rTaper, space: d.space,
     };
     return { settings: d, data: ds.data, structure: ds.structure, pathSet: ds.pathSet, shells, fit };
   });

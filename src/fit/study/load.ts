@@ -9,7 +9,7 @@ import { InputError, type InputLocation } from '../../core/errors';
 import { readTextFile } from '../../core/files';
 import { sha256 } from '../../core/hash';
 import { DEFAULT_FIT_SETTINGS } from '../exafs/fit-structure';
-import type { FitSpace } from '../exafs/problem';
+import type { FitDomain } from '../exafs/problem';
 import type { WindowShape } from '../../numeric/window';
 import type { EdgeName } from '../../elements/index';
 import { studySchema, type DatasetInput, type ShellRuleInput, type StudyInput } from './schema';
@@ -50,10 +50,10 @@ export interface StudyDataset {
   temperature?: number;
   kRange: [number, number];
   rRange: [number, number];
-  kWeights: number[];
-  space: FitSpace;
-  kWindow: { shape: WindowShape; taper: number };
-  rWindow: { shape: WindowShape; taper: number };
+  kWeightings: number[];
+  space: FitDomain;
+  kTaper: { shape: WindowShape; taper: number };
+  rTaper: { shape: WindowShape; taper: number };
   amp: string;
   e0: string;
   /** Shell rules; undefined means the fit command's default recipe. */
@@ -129,8 +129,8 @@ function mergeDatasets(input: StudyInput, where: (path: KeyPath) => InputLocatio
       name = candidate;
     }
     used.set(name, index);
-    const kWindow = pick('kWindow') ?? {};
-    const rWindow = pick('rWindow') ?? {};
+    const kTaper = pick('kTaper') ?? {};
+    const rTaper = pick('rTaper') ?? {};
     const amp = pick('amp');
     const e0 = pick('e0');
     return {
@@ -147,10 +147,10 @@ function mergeDatasets(input: StudyInput, where: (path: KeyPath) => InputLocatio
       temperature: pick('temperature'),
       kRange: pick('k') ?? [...DEFAULT_FIT_SETTINGS.kRange],
       rRange: pick('r') ?? [...DEFAULT_FIT_SETTINGS.rRange],
-      kWeights: pick('kWeights') ?? [...DEFAULT_FIT_SETTINGS.kWeights],
-      space: (pick('space') ?? DEFAULT_FIT_SETTINGS.space) as FitSpace,
-      kWindow: { shape: (kWindow.shape ?? DEFAULT_FIT_SETTINGS.kWindow.shape) as WindowShape, taper: kWindow.taper ?? DEFAULT_FIT_SETTINGS.kWindow.taper },
-      rWindow: { shape: (rWindow.shape ?? DEFAULT_FIT_SETTINGS.rWindow.shape) as WindowShape, taper: rWindow.taper ?? DEFAULT_FIT_SETTINGS.rWindow.taper },
+      kWeightings: pick('kWeightings') ?? [...DEFAULT_FIT_SETTINGS.kWeightings],
+      space: (pick('space') ?? DEFAULT_FIT_SETTINGS.space) as FitDomain,
+      kTaper: { shape: (kTaper.shape ?? DEFAULT_FIT_SETTINGS.kTaper.shape) as WindowShape, taper: kTaper.taper ?? DEFAULT_FIT_SETTINGS.kTaper.taper },
+      rTaper: { shape: (rTaper.shape ?? DEFAULT_FIT_SETTINGS.rTaper.shape) as WindowShape, taper: rTaper.taper ?? DEFAULT_FIT_SETTINGS.rTaper.taper },
       amp: amp === undefined ? 'amp' : String(amp),
       e0: e0 === undefined ? 'e0' : String(e0),
       shells: pick('shells'),

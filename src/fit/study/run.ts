@@ -31,8 +31,8 @@ export function runStudy(prepared: PreparedStudy): StudyFitResult {
     return {
       name: d.name,
       ...DEFAULT_FIT_SETTINGS,
-      kRange: d.kRange, rRange: d.rRange, kWeights: d.kWeights, space: d.space, amp: ampSetting,
-      kWindow: d.kWindow, rWindow: d.rWindow, starts: prepared.refine.starts, maxIterations: prepared.refine.maxIterations,
+      kRange: d.kRange, rRange: d.rRange, kWeightings: d.kWeightings, space: d.space, amp: ampSetting,
+      kTaper: d.kTaper, rTaper: d.rTaper, starts: prepared.refine.starts, maxIterations: prepared.refine.maxIterations,
       ...(d.temperature !== undefined ? { temperature: d.temperature } : {}),
     };
   });

@@ -15,7 +15,7 @@
 import { z } from 'zod';
 import { EDGE_NAMES } from '../../elements/index';
 import { WINDOW_SHAPES } from '../../numeric/window';
-import { FIT_SPACES } from '../exafs/problem';
+import { FIT_DOMAINS } from '../exafs/problem';
 import { rankSectionSchema } from './rank-section';
 
 /** Largest cluster radius accepted, Å. */
@@ -144,11 +144,11 @@ const datasetFields = {
   temperature: z.number().gt(0).max(5000).optional(),
   k: rangeSchema('1/Å', 0, MAX_STUDY_K).optional(),
   r: rangeSchema('Å', 0, MAX_STUDY_R).optional(),
-  kWeights: z.union([z.number().min(0).max(4), z.array(z.number().min(0).max(4)).min(1).max(8)], { error: 'expected a k-weight (0-4) or a list of them' })
+  kWeightings: z.union([z.number().min(0).max(4), z.array(z.number().min(0).max(4)).min(1).max(8)], { error: 'expected a k-weight (0-4) or a list of them' })
     .transform((w) => (typeof w === 'number' ? [w] : w)).optional(),
-  space: z.enum(FIT_SPACES as [string, ...string[]]).optional(),
-  kWindow: windowSchema.optional(),
-  rWindow: windowSchema.optional(),
+  space: z.enum(FIT_DOMAINS as [string, ...string[]]).optional(),
+  kTaper: windowSchema.optional(),
+  rTaper: windowSchema.optional(),
   /** Expressions for this data set's S0^2 and E0 shift (default the parameters amp and e0). */
   amp: numberOrExpression.optional(),
   e0: numberOrExpression.optional(),

@@ -2,7 +2,7 @@
  * Schema validation of parsed YAML with messages a person can act on: the file, the line, the
  * key path and what was expected, e.g.
  *   study.yaml:14: datasets[0].k: expected MIN:MAX or [min, max]
- *   study.yaml:9: datasets[0].kweights: unknown key (did you mean 'kWeights'?)
+ *   study.yaml:9: datasets[0].kweightings: unknown key (did you mean 'kWeightings'?)
  * Zod's issues are rewritten here: a union of a number, a text and a mapping reports the mapping's
  * own problem when a mapping was given; an unknown key is looked up against the keys the schema
  * allows at that place and the nearest one (Damerau-Levenshtein distance, optimal string

@@ -337,8 +337,8 @@ function energyFloor(r: Float64Array, v: Float64Array, l: number): number {
 
 function midpoint(low: number, high: number): number {
   // Geometric mean for wide negative brackets (eigenvalues span many decades), else arithmetic.
-  const highEff = Math.min(high, -1e-6);
-  if (low < 0 && highEff < 0 && low / highEff > 8) return -Math.sqrt(low * highEff);
+  const highCapped = Math.min(high, -1e-6);
+  if (low < 0 && highCapped < 0 && low / highCapped > 8) return -Math.sqrt(low * highCapped);
   return 0.5 * (low + high);
 }
 

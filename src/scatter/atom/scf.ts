@@ -194,8 +194,8 @@ function thomasFermiElectronic(grid: LogGrid, z: number): Float64Array {
     const x = r / b;
     const s = Math.sqrt(x);
     const phi = 1 / (1 + 0.02747 * s + 1.243 * x - 0.1486 * x * s + 0.2302 * x * x + 0.007298 * x * x * s + 0.006944 * x * x * x);
-    const zEff = Math.max(z * phi, 1);
-    out[i] = (z - zEff) / r;
+    const zEffective = Math.max(z * phi, 1);
+    out[i] = (z - zEffective) / r;
   }
   return out;
 }
