@@ -19,6 +19,8 @@
  */
 import { resolve as resolvePath } from 'node:path';
 import { InputError } from '../core/errors';
+import { checkWindowSettings } from '../fit/exafs/window-check';
+import { MAX_STARTS } from '../fit/exafs/refine';
 import { hashOf } from '../core/hash';
 import { SHELLRANK_VERSION } from '../core/provenance';
 import type { EdgeName } from '../elements/index';
@@ -114,6 +116,11 @@ export function resolveSettings(options: RankOptions, chi: Chi, _candidateCount?
     starts: options.starts ?? 1,
     ...(options.multipleScattering === false ? {} : { multipleScattering: { ...DEFAULT_MULTIPLE_SCATTERING, ...(typeof options.multipleScattering === 'object' ? options.multipleScattering : {}) } }),
   };
+  const w = settings.window;
+  checkWindowSettings({ kRange: w.kRange, weights: w.kWeightings, kTaper: w.kTaper.taper, rRange: w.rRange, rTaper: w.rTaper.taper });
+  if (settings.starts > MAX_STARTS) throw new InputError(`must be at most ${MAX_STARTS}, got ${settings.starts}`, { key: '--starts' });
+  if (options.tableStep !== undefined && !(options.tableStep > 0)) throw new InputError(`must be greater than 0, got ${options.tableStep}`, { key: '--table-step' });
+  if (options.tableStep !== undefined && options.tableStep > 0.5) throw new InputError(`must be at most 0.5 Å (a coarser rounding changes the shells), got ${options.tableStep}`, { key: '--table-step' });
   if (settings.radius < rRange[1] + pathMargin) {
     throw new InputError(`the cluster radius ${settings.radius} Å is smaller than the model range ${rRange[1] + pathMargin} Å (R max + margin)`, { key: '--radius' });
   }

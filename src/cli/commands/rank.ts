@@ -136,6 +136,7 @@ export function withDataAbsorber(options: RankOptionsBeforeData, chi: Chi, dataF
 /** The ranking options in library form. */
 export function parseRankOptions(raw: RankCliOptions, io: CliIo): { options: RankOptionsBeforeData; ranking: RankingOptions & { refineTop: number } } {
   if (!(WINDOW_SHAPES as readonly string[]).includes(raw.window)) throw new InputError(`unknown window '${raw.window}' (expected one of ${WINDOW_SHAPES.join(', ')})`, { key: '--window' });
+  if ([raw.json, raw.markdown, raw.csv].filter(Boolean).length > 1) throw new InputError('give one of them only', { key: '--json, --markdown, --csv' });
   if (!(FIT_DOMAINS as readonly string[]).includes(raw.space)) throw new InputError(`unknown fit space '${raw.space}' (expected one of ${FIT_DOMAINS.join(', ')})`, { key: '--space' });
   const shape = raw.window as WindowShape;
   const disorderGiven = [raw.debyeTemp, raw.einsteinTemp, raw.msrd].filter((x) => x !== undefined).length;

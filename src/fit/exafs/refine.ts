@@ -5,6 +5,7 @@
  * warnings, and the plausibility checks of ./plausibility.ts. Non-convergence is a status in the
  * result, never an exception.
  */
+import { InputError } from '../../core/errors';
 import { makeProvenance, type InputRecord, type Provenance } from '../../core/provenance';
 import { fitLeastSquares, type FitStatus } from '../levenberg-marquardt';
 import { fitLeastSquaresMultiStart } from '../multistart';
@@ -30,6 +31,9 @@ export interface ValueWithError {
 }
 
 /** Confidence level of the intervals in a fit result. */
+/** Most starts of one fit: beyond this a run takes hours for nothing (common practice, no source). */
+export const MAX_STARTS = 1000;
+
 export const INTERVAL_LEVEL = 0.95;
 
 export interface ShellResult {
@@ -103,6 +107,7 @@ export function refine(problem: ExafsProblem, options: RefineOptions = {}, setti
     lower: set.lowerFree,
     upper: set.upperFree,
   };
+  if ((options.starts ?? 1) > MAX_STARTS) throw new InputError(`must be at most ${MAX_STARTS}, got ${options.starts}`, { key: '--starts' });
   const lsOptions = { maxIterations: options.maxIterations ?? 200 };
   const fit = (options.starts ?? 1) > 1
     ? fitLeastSquaresMultiStart(lsProblem, { ...lsOptions, starts: options.starts, seed: options.seed ?? 1 })
