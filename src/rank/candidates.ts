@@ -13,7 +13,7 @@
  * of distances inside a shell is the structural disorder of the ensemble (../paths/pathset.ts).
  * Inequivalent absorber sites of one frame are averaged the same way (occupancy weights).
  */
-import { closeSync, openSync, readdirSync, readSync, statSync } from 'node:fs';
+import { closeSync, existsSync, openSync, readdirSync, readSync, statSync } from 'node:fs';
 import { createHash } from 'node:crypto';
 import { join } from 'node:path';
 import { InputError } from '../core/errors';
@@ -212,6 +212,15 @@ export function discoverCandidates(inputs: readonly string[], options: DiscoverO
     try {
       stat = statSync(resolvePath(input));
     } catch {
+      // `file#frame`: one frame of a multi-frame file (a real file of that name wins)
+      const m = /^(.+)#(\d+)$/.exec(input);
+      if (m && existsSync(resolvePath(m[1]))) {
+        const refs = frameRefsOfFile(resolvePath(m[1]), m[1], { format: options.format });
+        const frame = Number(m[2]);
+        if (frame >= refs.length) throw new InputError(`frame ${frame} does not exist (the file has ${refs.length} frame${refs.length === 1 ? '' : 's'}, numbered from 0)`, { file: m[1] });
+        specs.push({ kind: 'structure', name: input, source: refs[frame] });
+        continue;
+      }
       throw new InputError('no such file or folder', { file: input });
     }
     if (stat.isDirectory()) {
