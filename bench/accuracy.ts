@@ -6,7 +6,7 @@
  *
  * Protocol (one for every compound): default reduction; k 3-12 1/Å, k^2 weighting, Hann window
  * (taper 1); R space, real and imaginary parts over [max(1.0, R1 - 0.9), R1 + 0.25] Å where R1 is
- * the nearest crystal distance; S0^2 (amp) free, one e0 free. The first shell is every shell with
+ * the nearest crystal distance; S0^2 (s0sq) free, one e0 free. The first shell is every shell with
  * r0 <= R1 + 0.15 Å (sub-shells of a distorted site, e.g. 3 + 3 O in corundum): one common
  * distance change dr and one msrd for all of them, so the fitted first-shell R is the
  * occupancy-weighted mean r0 + dr, compared with the crystal's weighted mean. Shells beyond it
@@ -192,7 +192,7 @@ function measure(c: Compound, provider: ReturnType<typeof firstPrinciplesProvide
   const nFirst = first.reduce((s, p) => s + p.degeneracy, 0);
   const meanR0 = first.reduce((s, p) => s + p.degeneracy * p.r, 0) / nFirst;
   const parameters: ParameterSpec[] = [
-    { name: 'amp', value: 0.9, lower: 0.05, upper: 3 },
+    { name: 's0sq', value: 0.9, lower: 0.05, upper: 3 },
     { name: 'e0', value: 0, lower: -30, upper: 30 },
     { name: 'dr1', value: 0, lower: -0.5, upper: 0.5 },
     { name: 'msrd1', value: 0.005, lower: -0.01, upper: 0.1 },
@@ -245,13 +245,13 @@ function measure(c: Compound, provider: ReturnType<typeof firstPrinciplesProvide
     dR: round(p.dr1.value, 4),
     dRIterations: history,
     dRError: round(p.dr1.error, 4),
-    amp: round(p.amp.value, 3),
+    s0sq: round(p.s0sq.value, 3),
     e0: round(p.e0.value, 2),
     msrd: round(p.msrd1.value, 5),
     rFactor: round(result.stats.rFactor, 4),
     e0DrCorrelation: corr ? round(corr.value, 2) : null,
     converged: result.status.converged,
-    accepted: Math.abs(p.dr1.value) < 0.02 && p.amp.value >= 0.7 && p.amp.value <= 1.1 && Math.abs(p.e0.value) < 10 && p.msrd1.value > 0,
+    accepted: Math.abs(p.dr1.value) < 0.02 && p.s0sq.value >= 0.7 && p.s0sq.value <= 1.1 && Math.abs(p.e0.value) < 10 && p.msrd1.value > 0,
     seconds: round((performance.now() - started) / 1000, 1),
   };
 }
@@ -288,7 +288,7 @@ const markdown = [
   '|---|---|---|---|---|---|---|---|---|---|---|',
   ...rows.map((r) => 'refused' in r
     ? `| ${r.compound} | refused: ${r.refused!.replace(/\|/g, '/')} ||||||||||`
-    : `| ${r.compound} | ${r.firstShell} | ${r.rCrystal.toFixed(3)} | ${r.rFit.toFixed(3)} | ${r.dR >= 0 ? '+' : ''}${r.dR.toFixed(3)} | ${r.amp.toFixed(2)} | ${r.e0.toFixed(1)} | ${r.msrd.toFixed(4)} | ${r.rFactor.toFixed(3)} | ${cell(r.e0DrCorrelation)} | ${Object.values(r.dRAtCutoff).map((x) => (x === null ? '—' : `${x >= 0 ? '+' : ''}${x.toFixed(3)}`)).join(' / ')} |`),
+    : `| ${r.compound} | ${r.firstShell} | ${r.rCrystal.toFixed(3)} | ${r.rFit.toFixed(3)} | ${r.dR >= 0 ? '+' : ''}${r.dR.toFixed(3)} | ${r.s0sq.toFixed(2)} | ${r.e0.toFixed(1)} | ${r.msrd.toFixed(4)} | ${r.rFactor.toFixed(3)} | ${cell(r.e0DrCorrelation)} | ${Object.values(r.dRAtCutoff).map((x) => (x === null ? '—' : `${x >= 0 ? '+' : ''}${x.toFixed(3)}`)).join(' / ')} |`),
   '',
   ...rows.filter((r) => 'reduction' in r && r.reduction !== 'default').map((r) => `${r.compound}: ${(r as { reduction: string }).reduction}.`),
   `Not measured: ${LEFT_OUT.join('; ')}.`,

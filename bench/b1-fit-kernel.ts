@@ -11,7 +11,7 @@
  *   npx tsx bench/b1-fit-kernel.ts --data FILE --check [--sizes ...]
  *
  * Prints one JSON line per P on stdout in the peer's format: {"P", "medianMs", "iterations",
- * "ssr", "params": {"amp", "de0", "alpha", "s2": [...]}, "jac", "nfev", "njev", "status",
+ * "ssr", "params": {"s0sq", "e0", "expansion", "msrd": [...]}, "jac", "nfev", "njev", "status",
  * "repeats"}. "iterations" = Jacobians used for steps (the peer's njev); "nfev" = the first
  * evaluation plus every trial step. The timed region is one complete fit from the start values,
  * building the residual function included, reading the file excluded; the median of
@@ -51,7 +51,7 @@ import { performance } from 'node:perf_hooks';
 import { fitLeastSquares, type LeastSquaresProblem } from '../src/fit/levenberg-marquardt';
 import { gramMatrixOfColumns, transposeInto } from '../src/fit/dense';
 
-/** q^2 = k^2 - EK * de0 (the spec's 0.2624683 1/(Å^2 eV)). */
+/** q^2 = k^2 - EK * e0 (the spec's 0.2624683 1/(Å^2 eV)). */
 const EK = 0.2624683;
 const SIZES = [4, 8, 16, 32];
 /** --libm: fit with the plain reference model (Math.exp / sin / cos, row-major Jacobian). */
@@ -143,7 +143,7 @@ interface BenchLine {
   medianMs: number;
   iterations: number;
   ssr: number;
-  params: { amp: number; de0: number; alpha: number; s2: number[] };
+  params: { s0sq: number; e0: number; expansion: number; msrd: number[] };
   jac: string;
   nfev: number;
   njev: number;
@@ -182,7 +182,7 @@ interface ModelState {
   dq: Float64Array;
   /**
    * Shell-major P x m: D[j m + i] = -2 k_i^2 q_i^2 S_ij with S_ij = B_j(q_i) sin(arg_j(q_i)), the
-   * d/ds2_j column of the Jacobian without its factor amp.
+   * d/dmsrd_j column of the Jacobian without its factor s0sq.
    */
   D: Float64Array;
   /** Per point: sum_j S_ij, sum_j dS_ij/dq (total, through every q dependence), sum_j dS_ij/dalpha. */
@@ -200,12 +200,12 @@ interface ModelState {
 
 /**
  * Fill the pieces at p (skipped when p is unchanged). With B = A e, e = N/(q R^2)
- * exp(-2 q^2 s2 - 2 R/lambda), S = B sin(arg), C = B cos(arg):
- * - dS/dq = S (d ln A/dq - 1/q - 4 q s2 + 0.8 R/lambda^2) + C (2 R - 0.09 - 0.4/q^2), and
+ * exp(-2 q^2 msrd - 2 R/lambda), S = B sin(arg), C = B cos(arg):
+ * - dS/dq = S (d ln A/dq - 1/q - 4 q msrd + 0.8 R/lambda^2) + C (2 R - 0.09 - 0.4/q^2), and
  *   S d ln A/dq = e sin(arg) dA/dq with dA/dq = -0.024 g (q - centre), g = 0.6 exp(-0.012 (q - centre)^2);
- * - dS/dalpha = r0 dS/dR = r0 (S (-2/R - 2/lambda) + 2 q C) = (-2 S - 2 R S/lambda + 2 q R C) / (1 + alpha),
- *   since r0 = R / (1 + alpha).
- * So per point the sums over shells of S, S dlnA/dq, S s2, S R, C and C R give both derivatives.
+ * - dS/dexpansion = r0 dS/dR = r0 (S (-2/R - 2/lambda) + 2 q C) = (-2 S - 2 R S/lambda + 2 q R C) / (1 + expansion),
+ *   since r0 = R / (1 + expansion).
+ * So per point the sums over shells of S, S dlnA/dq, S msrd, S R, C and C R give both derivatives.
  */
 function modelPieces(st: ModelState, p: Float64Array): void {
   const { P, m, n, k, w, centre, q, dq, D, sumS, sumDq, sumDalpha, R, countOverR2, r0, count, cached } = st;
@@ -243,7 +243,7 @@ function modelPieces(st: ModelState, p: Float64Array): void {
   const expTable = EXP_TABLE;
   const sinTable = SIN_TABLE;
   const cosTable = COS_TABLE;
-  const de0 = p[1];
+  const e0 = p[1];
   const scale = 1 + p[2];
   const invScale = 1 / scale;
   for (let j = 0; j < P; j++) {
@@ -253,7 +253,7 @@ function modelPieces(st: ModelState, p: Float64Array): void {
   }
   for (let i = 0; i < m; i++) {
     const ki = k[i];
-    let qi = Math.sqrt(Math.max(ki * ki - EK * de0, 0));
+    let qi = Math.sqrt(Math.max(ki * ki - EK * e0, 0));
     let dqi = 0;
     if (qi >= 1e-9) dqi = (-0.5 * EK) / qi;
     else qi = ki;
@@ -273,10 +273,10 @@ function modelPieces(st: ModelState, p: Float64Array): void {
     let sC = 0;
     let sCR = 0;
     for (let j = 0; j < P; j++) {
-      const s2 = p[3 + j];
+      const msrd = p[3 + j];
       const Rj = R[j];
       const d = qi - centre[j];
-      // g = 0.6 exp(-0.012 d^2) and e = N/(q R^2) exp(-2 q^2 s2 - 2 R/lambda): tableExp written out.
+      // g = 0.6 exp(-0.012 d^2) and e = N/(q R^2) exp(-2 q^2 msrd - 2 R/lambda): tableExp written out.
       let y = AMP_EXPONENT * d * d;
       let g: number;
       if (y > EXP_LOW && y < EXP_HIGH) {
@@ -285,7 +285,7 @@ function modelPieces(st: ModelState, p: Float64Array): void {
         const nInt = nf | 0;
         g = AMP_PEAK * pow2[(nInt >> 8) + 1100] * expTable[nInt & 255] * (ONE + r * (ONE + r * (HALF + r * (C6 + r * C24))));
       } else g = AMP_PEAK * Math.exp(y);
-      y = minusTwoQ2 * s2 + minusTwoIl * Rj;
+      y = minusTwoQ2 * msrd + minusTwoIl * Rj;
       let e = countOverR2[j] * invQ;
       if (y > EXP_LOW && y < EXP_HIGH) {
         const nf = y * EXP_INV + SHIFT - SHIFT;
@@ -311,7 +311,7 @@ function modelPieces(st: ModelState, p: Float64Array): void {
       D[j * m + i] = ds2Factor * s;
       sS += s;
       sSdlnA += e * sinX * (AMP_SLOPE * g * d);
-      sSs2 += s * s2;
+      sSs2 += s * msrd;
       sSR += s * Rj;
       sC += c;
       sCR += c * Rj;
@@ -322,45 +322,45 @@ function modelPieces(st: ModelState, p: Float64Array): void {
   }
 }
 
-/** Residuals k^2 (amp sum_j S_ij - y_i). */
+/** Residuals k^2 (s0sq sum_j S_ij - y_i). */
 function modelResiduals(st: ModelState, p: Float64Array, out: Float64Array): void {
   modelPieces(st, p);
   const { m, w, y, sumS } = st;
-  const amp = p[0];
-  for (let i = 0; i < m; i++) out[i] = w[i] * (amp * sumS[i] - y[i]);
+  const s0sq = p[0];
+  for (let i = 0; i < m; i++) out[i] = w[i] * (s0sq * sumS[i] - y[i]);
 }
 
 /**
- * Analytic Jacobian, column-major m x (P + 3): d/d amp, d/d de0 (via q), d/d alpha (via R),
- * d/d s2_j = -2 amp k^2 q^2 S_ij = amp D_ij.
+ * Analytic Jacobian, column-major m x (P + 3): d/d s0sq, d/d e0 (via q), d/d expansion (via R),
+ * d/d msrd_j = -2 s0sq k^2 q^2 S_ij = s0sq D_ij.
  */
 function modelJacobianColumns(st: ModelState, p: Float64Array, out: Float64Array): void {
   modelPieces(st, p);
   const { P, m, w, dq, D, sumS, sumDq, sumDalpha } = st;
-  const amp = p[0];
+  const s0sq = p[0];
   for (let i = 0; i < m; i++) {
     const wi = w[i];
     out[i] = wi * sumS[i];
-    out[m + i] = wi * amp * dq[i] * sumDq[i];
-    out[2 * m + i] = wi * amp * sumDalpha[i];
+    out[m + i] = wi * s0sq * dq[i] * sumDq[i];
+    out[2 * m + i] = wi * s0sq * sumDalpha[i];
   }
   const size = m * P;
   const offset = 3 * m;
-  for (let t = 0; t < size; t++) out[offset + t] = amp * D[t];
+  for (let t = 0; t < size; t++) out[offset + t] = s0sq * D[t];
 }
 
 /** The same Jacobian row-major (--rows: to time the fitter's transpose). */
 function modelJacobianRows(st: ModelState, p: Float64Array, out: Float64Array): void {
   modelPieces(st, p);
   const { P, m, n, w, dq, D, sumS, sumDq, sumDalpha } = st;
-  const amp = p[0];
+  const s0sq = p[0];
   for (let i = 0; i < m; i++) {
     const wi = w[i];
     const row = i * n;
     out[row] = wi * sumS[i];
-    out[row + 1] = wi * amp * dq[i] * sumDq[i];
-    out[row + 2] = wi * amp * sumDalpha[i];
-    for (let j = 0; j < P; j++) out[row + 3 + j] = amp * D[j * m + i];
+    out[row + 1] = wi * s0sq * dq[i] * sumDq[i];
+    out[row + 2] = wi * s0sq * sumDalpha[i];
+    for (let j = 0; j < P; j++) out[row + 3 + j] = s0sq * D[j * m + i];
   }
 }
 
@@ -380,7 +380,7 @@ function fitRange(kGrid: Float64Array, data: Float64Array): { k: Float64Array; y
   return { k, y };
 }
 
-/** Start values of the spec: amp 1, de0 0, alpha 0, every s2_j 0.005. */
+/** Start values of the spec: s0sq 1, e0 0, expansion 0, every msrd_j 0.005. */
 function startValues(P: number): Float64Array {
   const initial = new Float64Array(P + 3).fill(0.005);
   initial[0] = 1.0;
@@ -391,7 +391,7 @@ function startValues(P: number): Float64Array {
 
 /**
  * The B1 problem for P shells: residual k^2 (chi(p) - y) on 3 <= k <= 14, parameters
- * [amp, de0, alpha, s2_0 .. s2_{P-1}], and its analytic Jacobian (column-major; row-major with
+ * [s0sq, e0, expansion, msrd_0 .. msrd_{P-1}], and its analytic Jacobian (column-major; row-major with
  * --rows). The pieces shared by the residual and the Jacobian are kept from the last residual
  * call and reused when the Jacobian is asked at the same point (as the peer does).
  */
@@ -482,7 +482,7 @@ function makeReferenceProblem(kGrid: Float64Array, data: Float64Array, P: number
       }
     },
     jacobian(p, out) {
-      const amp = p[0];
+      const s0sq = p[0];
       for (let i = 0; i < m; i++) {
         const { q, dq } = point(p, k[i]);
         const w = k[i] * k[i];
@@ -497,11 +497,11 @@ function makeReferenceProblem(kGrid: Float64Array, data: Float64Array, P: number
           sumS += S;
           sumE += S * dlnB + C * (2 * R - 0.09 - 0.4 / (q * q));
           sumA += r0 * (S * (-2 / R - 2 / lam) + C * (2 * q));
-          out[i * n + 3 + j] = -2 * amp * q * q * S * w;
+          out[i * n + 3 + j] = -2 * s0sq * q * q * S * w;
         }
         out[i * n] = w * sumS;
-        out[i * n + 1] = w * amp * dq * sumE;
-        out[i * n + 2] = w * amp * sumA;
+        out[i * n + 1] = w * s0sq * dq * sumE;
+        out[i * n + 2] = w * s0sq * sumA;
       }
     },
   };
@@ -585,7 +585,7 @@ function runOurs(args: Args, k: Float64Array, d: Record<string, number[]>, P: nu
       cpuMedianMs: Math.round(1e4 * median(cpuTimes)) / 1e4,
       iterations: last.iterations,
       ssr: last.ssr,
-      params: { amp: x[0], de0: x[1], alpha: x[2], s2: Array.from(x.subarray(3)) },
+      params: { s0sq: x[0], e0: x[1], expansion: x[2], msrd: Array.from(x.subarray(3)) },
       jac: 'analytic',
       nfev: last.evaluations,
       njev: last.iterations,
@@ -620,8 +620,8 @@ function compare(ours: BenchLine[], peer: BenchLine[]) {
   const rows = ours.map((o) => {
     const p = peer.find((x) => x.P === o.P)!;
     const ssrRel = Math.abs(o.ssr - p.ssr) / Math.abs(p.ssr);
-    const a = [o.params.amp, o.params.de0, o.params.alpha, ...o.params.s2];
-    const b = [p.params.amp, p.params.de0, p.params.alpha, ...p.params.s2];
+    const a = [o.params.s0sq, o.params.e0, o.params.expansion, ...o.params.msrd];
+    const b = [p.params.s0sq, p.params.e0, p.params.expansion, ...p.params.msrd];
     let maxParamDiff = 0;
     for (let i = 0; i < a.length; i++) maxParamDiff = Math.max(maxParamDiff, Math.abs(a[i] - b[i]));
     const agree = ssrRel <= 1e-6 && maxParamDiff <= 1e-4;
@@ -742,7 +742,7 @@ function checkModel(args: Args, k: Float64Array, d: Record<string, number[]>): v
         let scale = 0;
         for (let i = 0; i < m; i++) scale = Math.max(scale, Math.abs(jR[i * n + a]));
         for (let i = 0; i < m; i++) jacDiff = Math.max(jacDiff, Math.abs(cols[a * m + i] - jR[i * n + a]) / scale);
-        // Step 1e-5 relative to the parameter or to its typical size (amp 1, de0 1 eV, alpha 0.01, s2 0.001 Å^2).
+        // Step 1e-5 relative to the parameter or to its typical size (s0sq 1, e0 1 eV, expansion 0.01, msrd 0.001 Å^2).
         const h = 1e-5 * Math.max(Math.abs(p[a]), [1, 1, 0.01][a] ?? 0.001);
         const pp = Float64Array.from(p);
         pp[a] = p[a] + h;

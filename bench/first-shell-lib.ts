@@ -2,7 +2,7 @@
  * Shared pieces of the first-shell measuring scripts (bench/first-shell-*.ts): the three crystals of
  * bench/measured-first-shell.ts (room-temperature handbook lattice constants named there), their
  * reduced measured spectra, first-principles tables, and an R-space fit of the first shell(s) with
- * the same model, window and parameters as bench/measured-first-shell.ts (amp, e0, r, msrd per
+ * the same model, window and parameters as bench/measured-first-shell.ts (s0sq, e0, r, msrd per
  * shell free; optionally r fixed or c3 free), plus the phase of a Fourier-filtered shell.
  * Not the official fit pipeline.
  */
@@ -63,7 +63,7 @@ export function shellsAndTables(sample: Sample, provider: ScatteringProvider, a 
 
 export interface FitOptions { kMin?: number; kMax?: number; kWeighting?: number; fixR?: boolean; freeC3?: boolean }
 
-export interface ShellFit { dR: number; amp: number; e0: number; msrd: number[]; c3: number; params: ModelParameters; window: { min: number; max: number } }
+export interface ShellFit { dR: number; s0sq: number; e0: number; msrd: number[]; c3: number; params: ModelParameters; window: { min: number; max: number } }
 
 /** R-space fit as in bench/measured-first-shell.ts. */
 export function fitShells(sample: Sample, k: Float64Array, chi: Float64Array, shells: ScatteringPath[], tables: ScatteringTable[], options: FitOptions = {}): ShellFit {
@@ -76,7 +76,7 @@ export function fitShells(sample: Sample, k: Float64Array, chi: Float64Array, sh
   for (let j = 0; j < data.x.length; j++) if (data.x[j] >= sample.rMin && data.x[j] <= sample.rMax) inRange.push(j);
   const r1 = shells[0].r;
   const ns = shells.length;
-  // parameter vector: amp, e0, r, msrd per shell, c3
+  // parameter vector: s0sq, e0, r, msrd per shell, c3
   const all = (p: Float64Array): number[] => {
     const out = [p[0], p[1]];
     let i = 2;
@@ -87,7 +87,7 @@ export function fitShells(sample: Sample, k: Float64Array, chi: Float64Array, sh
   };
   const params = (p: Float64Array): ModelParameters => {
     const v = all(p);
-    return { amp: v[0], e0: v[1], paths: shells.map((s, j) => ({ n: s.degeneracy, r: s.r * (v[2] / r1), msrd: v[3 + j], c3: j === 0 ? v[3 + ns] : 0, c4: 0 })) };
+    return { s0sq: v[0], e0: v[1], paths: shells.map((s, j) => ({ n: s.degeneracy, r: s.r * (v[2] / r1), msrd: v[3 + j], c3: j === 0 ? v[3 + ns] : 0, c4: 0 })) };
   };
   const initial = [0.9, 0, ...(options.fixR ? [] : [r1]), ...shells.map(() => 0.006), ...(options.freeC3 ? [0] : [])];
   const lower = [0.2, -25, ...(options.fixR ? [] : [r1 - 0.3]), ...shells.map(() => 0), ...(options.freeC3 ? [-0.002] : [])];
@@ -107,7 +107,7 @@ export function fitShells(sample: Sample, k: Float64Array, chi: Float64Array, sh
       const d = ev.derivatives!;
       jac = new Float64Array(m * np);
       let c = 0;
-      fill(transform(d.amp), jac, c++, np);
+      fill(transform(d.s0sq), jac, c++, np);
       fill(transform(d.e0), jac, c++, np);
       if (!options.fixR) {
         const dr = new Float64Array(k.length);
@@ -120,7 +120,7 @@ export function fitShells(sample: Sample, k: Float64Array, chi: Float64Array, sh
     jacobian(_p, out) { out.set(jac!); },
   }, { maxIterations: 200 });
   const v = all(result.params);
-  return { dR: v[2] - r1, amp: v[0], e0: v[1], msrd: v.slice(3, 3 + ns), c3: v[3 + ns], params: params(result.params), window: { min: kMin, max: top } };
+  return { dR: v[2] - r1, s0sq: v[0], e0: v[1], msrd: v.slice(3, 3 + ns), c3: v[3 + ns], params: params(result.params), window: { min: kMin, max: top } };
 }
 
 /**

@@ -65,6 +65,6 @@ const out = SAMPLES.map((s) => {
   const { k, chi } = measuredChi(s);
   const { shells, tables } = shellsAndTables(s, provider);
   const f = fitShells(s, k, chi, shells, tables, { freeC3 });
-  return `${s.name} dR=${f.dR >= 0 ? '+' : ''}${f.dR.toFixed(4)} amp=${f.amp.toFixed(3)} e0=${f.e0.toFixed(2)}${freeC3 ? ` c3=${f.c3.toExponential(2)}` : ''}`;
+  return `${s.name} dR=${f.dR >= 0 ? '+' : ''}${f.dR.toFixed(4)} s0sq=${f.s0sq.toFixed(3)} e0=${f.e0.toFixed(2)}${freeC3 ? ` c3=${f.c3.toExponential(2)}` : ''}`;
 });
 console.log(`absorber=${variant} ${JSON.stringify(option('--settings') ?? '')} ${out.join('  ')}`);

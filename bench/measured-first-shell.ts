@@ -4,7 +4,7 @@
  * reduce it with the default reduction, build the crystal from its handbook lattice constant,
  * take the shells and their environments from the PathSet, get scattering tables from the
  * firstPrinciples provider, and fit the first shell in R space (real and imaginary parts of the
- * k^2-weighted, Hann-windowed transform inside an R range) with amp (S0^2), e0, r and msrd free,
+ * k^2-weighted, Hann-windowed transform inside an R range) with s0sq (S0^2), e0, r and msrd free,
  * by Levenberg-Marquardt with analytic derivatives. Prints one JSON table; a measuring tool for the
  * scattering engine, not the official fit pipeline.
  *
@@ -124,11 +124,11 @@ function fitSample(sample: Sample) {
   const inRange: number[] = [];
   for (let j = 0; j < data.x.length; j++) if (data.x[j] >= sample.rMin && data.x[j] <= sample.rMax) inRange.push(j);
   const r1 = shells[0].r;
-  // parameters: amp, e0, r (first shell), msrd per shell, then c3 of the first shell if freed
+  // parameters: s0sq, e0, r (first shell), msrd per shell, then c3 of the first shell if freed
   const nShells = shells.length;
   const c3Index = 3 + nShells;
   const modelParams = (p: Float64Array): ModelParameters => ({
-    amp: p[0],
+    s0sq: p[0],
     e0: p[1],
     paths: shells.map((s, j) => ({ n: s.degeneracy, r: s.r * (p[2] / r1), msrd: p[3 + j], c3: freeC3 && j === 0 ? p[c3Index] : 0, c4: 0 })),
   });
@@ -152,7 +152,7 @@ function fitSample(sample: Sample) {
         fill(transform(ev.chi), out, 0, 1, data);
         const d = ev.derivatives!;
         const jac = new Float64Array(m * nParams);
-        fill(transform(d.amp), jac, 0, nParams);
+        fill(transform(d.s0sq), jac, 0, nParams);
         fill(transform(d.e0), jac, 1, nParams);
         // d chi / d r1 = sum_j (dchi/dr_j) (r_j^0 / r_1^0)
         const dr = new Float64Array(k.length);
@@ -187,13 +187,13 @@ function fitSample(sample: Sample) {
     kRange: [kMin, round(top, 2)],
     rRange: [sample.rMin, sample.rMax],
     dR: round(dR, 4),
-    amp: round(p[0], 3),
+    s0sq: round(p[0], 3),
     e0: round(p[1], 2),
     msrd: Array.from(p.slice(3, 3 + nShells)).map((v) => round(v, 5)),
     ...(freeC3 ? { c3: Number(p[c3Index].toExponential(2)) } : {}),
     rFactor: round(num / den, 4),
     // formal errors scaled by the residual variance (points in R are not independent: indicative only)
-    errors: errors ? { r: round(errors[2], 4), amp: round(errors[0], 3), e0: round(errors[1], 2) } : null,
+    errors: errors ? { r: round(errors[2], 4), s0sq: round(errors[0], 3), e0: round(errors[1], 2) } : null,
     accepted: Math.abs(dR) < 0.015 && p[0] >= 0.7 && p[0] <= 1.05 && Math.abs(p[1]) < 10,
     status: result.status,
     tablesMs: Math.round(tablesMs),
@@ -202,6 +202,6 @@ function fitSample(sample: Sample) {
 
 const rows = SAMPLES.filter((s) => wanted.includes(s.name)).map(fitSample);
 const text = JSON.stringify({ benchmark: 'measured-first-shell', kWeighting, settings, freeC3, firstOnly, rows }, null, 1);
-// (one JSON document; rows hold dR, amp (S0^2), e0, msrd, rFactor per sample)
+// (one JSON document; rows hold dR, s0sq (S0^2), e0, msrd, rFactor per sample)
 console.log(text);
 if (outFile) writeFileSync(outFile, text + '\n');

@@ -89,7 +89,7 @@ function syntheticData(): Chi {
   const p = defaultProviders({}).get(provider);
   const tables = tablesForPaths(set, set.paths, p, 17);
   const k = Float64Array.from({ length: 321 }, (_, i) => i * 0.05);
-  const clean = evaluateModel(k, tables, { amp: 0.9, e0: 1, paths: set.paths.map((q) => ({ n: q.degeneracy, r: q.r, msrd: 0.008, c3: 0, c4: 0 })) }).chi;
+  const clean = evaluateModel(k, tables, { s0sq: 0.9, e0: 1, paths: set.paths.map((q) => ({ n: q.degeneracy, r: q.r, msrd: 0.008, c3: 0, c4: 0 })) }).chi;
   const random = seededRandom(7);
   const chi = Float64Array.from(clean, (v) => v + 0.001 * random.normal());
   return makeChi({ k, chi, e0: 8979, edgeStep: 1, noise: estimateNoise(k, chi, DEFAULT_NOISE) });

@@ -44,7 +44,7 @@ for (const part of MIXTURE) {
   const set = shellsOfStructure(loaded.frames[0], { absorber: { index: 0 }, radius: 6, tolerance: 0.02 });
   // correlated Debye needs a density: 56 atoms in a = 8.083 Å for the spinel, 8 in a = 4.177 Å for NiO (from memory)
   const density = part.file.includes('nio') ? 8 / 4.177 ** 3 : 56 / 8.083 ** 3;
-  const sim = simulateSpectrum(set, provider, { amp: 0.85, disorder: { kind: 'debye', debyeTemperature: 500, temperature: 300, density }, kMax: 16 });
+  const sim = simulateSpectrum(set, provider, { s0sq: 0.85, disorder: { kind: 'debye', debyeTemperature: 500, temperature: 300, density }, kMax: 16 });
   kGrid = sim.k;
   chi = chi ?? new Float64Array(sim.chi.length);
   for (let i = 0; i < chi.length; i++) chi[i] += part.fraction * sim.chi[i];

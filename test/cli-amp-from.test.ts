@@ -1,5 +1,5 @@
 /**
- * `--amp-from FIT.json` takes S0^2 from a fit of a reference compound; a fit that did not converge
+ * `--s0sq-from FIT.json` takes S0^2 from a fit of a reference compound; a fit that did not converge
  * gives no calibrated S0^2 and is refused. Data: the measured Cu foil of test/data (SOURCE.md),
  * scattering from the parametric provider (approximate; only the bookkeeping is checked here).
  */
@@ -12,22 +12,22 @@ import { cli, REPO, TEST_DATA } from './helpers/cli';
 const cuData = join(TEST_DATA, 'cu_metal_rt.xdi');
 const cuP1 = join(REPO, 'test/fixtures/structures/cu-p1.cif');
 
-describe('--amp-from and the status of the reference fit', () => {
+describe('--s0sq-from and the status of the reference fit', () => {
   it('refuses a reference fit stopped before convergence and accepts a converged one', async () => {
     const dir = mkdtempSync(join(tmpdir(), 'shellrank-amp-from-'));
-    const base = ['fit', cuData, cuP1, '--absorber', 'Cu', '--amp', 'free', '--r', '1.5:3', '--provider', 'parametric', '--json'];
+    const base = ['fit', cuData, cuP1, '--absorber', 'Cu', '--s0sq', 'free', '--r', '1.5:3', '--provider', 'parametric', '--json'];
     const stopped = join(dir, 'stopped.json');
     // the fit itself exits 3 (did not converge) but writes its result, which a user may then pass on
     expect((await cli([...base, '--max-iterations', '1', '--out', stopped])).code).toBe(3);
     expect(JSON.parse(readFileSync(stopped, 'utf8')).status.converged).toBe(false);
-    const refused = await cli(['fit', cuData, cuP1, '--absorber', 'Cu', '--amp-from', stopped, '--r', '1.5:3', '--provider', 'parametric']);
+    const refused = await cli(['fit', cuData, cuP1, '--absorber', 'Cu', '--s0sq-from', stopped, '--r', '1.5:3', '--provider', 'parametric']);
     expect(refused.code).toBe(2);
-    expect(refused.stderr).toMatch(/stopped\.json: --amp-from: the reference fit did not converge/);
+    expect(refused.stderr).toMatch(/stopped\.json: --s0sq-from: the reference fit did not converge/);
     const converged = join(dir, 'converged.json');
     expect((await cli([...base, '--out', converged])).code).toBe(0);
-    const amp = JSON.parse(readFileSync(converged, 'utf8')).params.amp.value;
-    const used = await cli(['fit', cuData, cuP1, '--absorber', 'Cu', '--amp-from', converged, '--r', '1.5:3', '--provider', 'parametric', '--json']);
+    const s0sq = JSON.parse(readFileSync(converged, 'utf8')).params.s0sq.value;
+    const used = await cli(['fit', cuData, cuP1, '--absorber', 'Cu', '--s0sq-from', converged, '--r', '1.5:3', '--provider', 'parametric', '--json']);
     expect(used.code).toBe(0);
-    expect(JSON.parse(used.stdout).params.amp).toMatchObject({ value: amp, state: 'fixed' });
+    expect(JSON.parse(used.stdout).params.s0sq).toMatchObject({ value: s0sq, state: 'fixed' });
   }, 120_000);
 });

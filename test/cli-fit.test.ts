@@ -12,11 +12,11 @@ describe('shellrank fit on the measured Cu foil', () => {
   it('writes the JSON of issue 5 with stats, params, shells, correlations, status and provenance', async () => {
     const dir = tmp();
     const out = join(dir, 'fit.json');
-    const run = await cli(['fit', cuData, cuP1, '--absorber', 'Cu', '--amp', 'free', '--r', '1.5:3', '--json', '--out', out, '--provider', 'parametric']);
+    const run = await cli(['fit', cuData, cuP1, '--absorber', 'Cu', '--s0sq', 'free', '--r', '1.5:3', '--json', '--out', out, '--provider', 'parametric']);
     expect(run.code).toBe(0);
     const doc = JSON.parse(readFileSync(out, 'utf8'));
     for (const key of ['rFactor', 'chiSquare', 'reducedChiSquare', 'nIndependent', 'nVaried', 'aic', 'bic']) expect(typeof doc.stats[key]).toBe('number');
-    expect(doc.params.amp.state).toBe('free');
+    expect(doc.params.s0sq.state).toBe('free');
     expect(doc.params.e0.state).toBe('free');
     expect(doc.shells[0].species).toBe('Cu');
     expect(doc.shells[0].n).toBe(12);
@@ -28,14 +28,14 @@ describe('shellrank fit on the measured Cu foil', () => {
     // the independent points of k 3-14, R 1.5-3: 2 * 11 * 1.5 / pi + 2 (Stern, Phys. Rev. B 48, 9825 (1993))
     expect(doc.stats.nIndependent).toBeCloseTo((2 * 11 * 1.5) / Math.PI + 2, 6);
   });
-  it('fixes S0^2 from an earlier fit with --amp-from (calibration on a reference compound)', async () => {
+  it('fixes S0^2 from an earlier fit with --s0sq-from (calibration on a reference compound)', async () => {
     const dir = tmp();
     const ref = join(dir, 'ref.json');
-    writeFileSync(ref, JSON.stringify({ params: { amp: { value: 0.83, error: 0.05, state: 'free' } } }));
-    const run = await cli(['fit', cuData, cuP1, '--absorber', 'Cu', '--amp-from', ref, '--r', '1.5:3', '--json', '--provider', 'parametric']);
+    writeFileSync(ref, JSON.stringify({ params: { s0sq: { value: 0.83, error: 0.05, state: 'free' } } }));
+    const run = await cli(['fit', cuData, cuP1, '--absorber', 'Cu', '--s0sq-from', ref, '--r', '1.5:3', '--json', '--provider', 'parametric']);
     expect(run.code).toBe(0);
     const doc = JSON.parse(run.stdout);
-    expect(doc.params.amp).toMatchObject({ value: 0.83, state: 'fixed' });
+    expect(doc.params.s0sq).toMatchObject({ value: 0.83, state: 'fixed' });
   });
   it('refuses data shorter than the k range with a one-line error naming the file', async () => {
     const run = await cli(['fit', cuData, cuP1, '--absorber', 'Cu', '--k', '3:25', '--provider', 'parametric']);

@@ -15,15 +15,15 @@ const paths: ScatteringPath[] = [
   { id: 'Cu.1', kind: 'single', legs: 2, scatterer: 'Cu', r: 2.9, degeneracy: 8, spread: 0 },
 ];
 const tables = paths.map((p) => parametricProvider.compute({ absorber: 'Cu', scatterer: p.scatterer, edge: 'K', distance: p.r, k: tableGrid() }));
-const truth = { amp: 0.9, e0: 2.0, r1: 1.962, s1: 0.0045, r2: 2.885, s2: 0.0072 };
+const truth = { s0sq: 0.9, e0: 2.0, r1: 1.962, s1: 0.0045, r2: 2.885, s2: 0.0072 };
 const k = uniformGrid(0, 15, 0.05);
 const clean = evaluateModel(k, tables, {
-  amp: truth.amp, e0: truth.e0,
+  s0sq: truth.s0sq, e0: truth.e0,
   paths: [{ n: 4, r: truth.r1, msrd: truth.s1, c3: 0, c4: 0 }, { n: 8, r: truth.r2, msrd: truth.s2, c3: 0, c4: 0 }],
 }).chi;
 
 const parameters: ParameterSpec[] = [
-  { name: 'amp', value: 0.9, state: 'fixed' },
+  { name: 's0sq', value: 0.9, state: 'fixed' },
   { name: 'e0', value: 0 },
   { name: 'r1', value: 1.95 }, { name: 's1', value: 0.005 },
   { name: 'r2', value: 2.9 }, { name: 's2', value: 0.005 },

@@ -3,7 +3,7 @@ import fc from 'fast-check';
 import { compileExpression, MAX_EXPRESSION_DEPTH } from '../src/fit/expressions';
 import { InputError } from '../src/core/errors';
 
-const known = (name: string) => ['r1', 'r2', 'msrd1', 'amp', 'x'].includes(name);
+const known = (name: string) => ['r1', 'r2', 'msrd1', 's0sq', 'x'].includes(name);
 
 /** Evaluate with named values. */
 function evaluate(text: string, values: Record<string, number>): number {
@@ -13,7 +13,7 @@ function evaluate(text: string, values: Record<string, number>): number {
 
 describe('allowed expressions compute what JavaScript computes', () => {
   // Reference: the same formula written directly in JavaScript (IEEE 754 double arithmetic).
-  const v = { r1: 2.5, r2: 3.1, msrd1: 0.004, amp: 0.9, x: 0.3 };
+  const v = { r1: 2.5, r2: 3.1, msrd1: 0.004, s0sq: 0.9, x: 0.3 };
   const cases: [string, number][] = [
     ['r1 + 0.5 * (r2 - r1)', 2.5 + 0.5 * (3.1 - 2.5)],
     ['-r1 ^ 2', -(2.5 ** 2)], // mathjs precedence: unary minus binds looser than ^
@@ -21,13 +21,13 @@ describe('allowed expressions compute what JavaScript computes', () => {
     ['sqrt(msrd1) * 2', Math.sqrt(0.004) * 2],
     ['exp(-2 * x) + log(r2) - log10(100)', Math.exp(-0.6) + Math.log(3.1) - 2],
     ['sin(x) * cos(x) / tan(x)', (Math.sin(0.3) * Math.cos(0.3)) / Math.tan(0.3)],
-    ['abs(r1 - r2) + min(r1, r2, 1) + max(amp, x)', Math.abs(2.5 - 3.1) + 1 + 0.9],
+    ['abs(r1 - r2) + min(r1, r2, 1) + max(s0sq, x)', Math.abs(2.5 - 3.1) + 1 + 0.9],
     ['2 pi r1', 2 * Math.PI * 2.5],
     ['e ^ x', Math.E ** 0.3],
     ['atan2(r1, r2) + hypot(r1, r2) + cbrt(8) + sinh(x) + cosh(x) + tanh(x)', Math.atan2(2.5, 3.1) + Math.hypot(2.5, 3.1) + 2 + Math.sinh(0.3) + Math.cosh(0.3) + Math.tanh(0.3)],
     ['asin(x) + acos(x) + atan(x)', Math.asin(0.3) + Math.acos(0.3) + Math.atan(0.3)],
     ['+r1 - -r2', 2.5 + 3.1],
-    ['1.5e-3 * amp', 1.5e-3 * 0.9],
+    ['1.5e-3 * s0sq', 1.5e-3 * 0.9],
   ];
   for (const [text, expected] of cases) {
     it(`${text}`, () => {

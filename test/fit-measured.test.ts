@@ -40,7 +40,7 @@ describe('first-shell fits of the measured spectra', () => {
     if (!r) {
       const { chi } = loadChiOrReduce(join(DATA, c.file));
       const set = shellsOfStructure(c.structure, { absorber: { element: c.structure.species[0] }, radius: 6 });
-      r = fitStructure(chi, set, provider, { amp: 'free', kRange: [3, 14], rRange: c.r, space: 'r' });
+      r = fitStructure(chi, set, provider, { s0sq: 'free', kRange: [3, 14], rRange: c.r, space: 'r' });
       results.set(c.name, r);
     }
     return r;
@@ -50,8 +50,8 @@ describe('first-shell fits of the measured spectra', () => {
     it(`${c.name}: converges with S0^2 in 0.7-1.05 and |e0| < 10 eV (issues 3 and 5)`, () => {
       const r = resultOf(c);
       expect(r.status.converged).toBe(true);
-      expect(r.params.amp.value).toBeGreaterThanOrEqual(0.7);
-      expect(r.params.amp.value).toBeLessThanOrEqual(1.05);
+      expect(r.params.s0sq.value).toBeGreaterThanOrEqual(0.7);
+      expect(r.params.s0sq.value).toBeLessThanOrEqual(1.05);
       expect(Math.abs(r.params.e0.value)).toBeLessThan(10);
     });
   }

@@ -14,9 +14,9 @@ import { hasPythonModules, runPython } from './helpers/python';
 const paths: ScatteringPath[] = [{ id: 'O.1', kind: 'single', legs: 2, scatterer: 'O', r: 2.0, degeneracy: 6, spread: 0 }];
 const tables = paths.map((p) => parametricProvider.compute({ absorber: 'Ni', scatterer: p.scatterer, edge: 'K', distance: p.r, k: tableGrid() }));
 const k = uniformGrid(0, 15, 0.05);
-const chi = evaluateModel(k, tables, { amp: 0.9, e0: 0, paths: [{ n: 6, r: 2.0, msrd: 0.005, c3: 0, c4: 0 }] }).chi;
+const chi = evaluateModel(k, tables, { s0sq: 0.9, e0: 0, paths: [{ n: 6, r: 2.0, msrd: 0.005, c3: 0, c4: 0 }] }).chi;
 const rules = [{ n: '6', r: 'r1', msrd: 's1', c3: '0', c4: '0' }];
-const parameters = [{ name: 'amp', value: 0.9, state: 'fixed' as const }, { name: 'e0', value: 0 }, { name: 'r1', value: 2.0 }, { name: 's1', value: 0.005 }];
+const parameters = [{ name: 's0sq', value: 0.9, state: 'fixed' as const }, { name: 'e0', value: 0 }, { name: 'r1', value: 2.0 }, { name: 's1', value: 0.005 }];
 
 function dataset(space: 'k' | 'r' | 'q', kWeightings: number[], name = 'set'): FitDataset {
   return {

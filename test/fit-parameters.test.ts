@@ -4,7 +4,7 @@ import { seededRandom } from '../src/fit/random';
 import { InputError } from '../src/core/errors';
 
 const shells: ParameterSpec[] = [
-  { name: 'amp', value: 0.9, state: 'fixed' },
+  { name: 's0sq', value: 0.9, state: 'fixed' },
   { name: 'e0', value: 1.5, lower: -10, upper: 10 },
   { name: 'r1', value: 2.5 },
   { name: 'dr', value: 0.2 },
@@ -27,7 +27,7 @@ describe('free, fixed and tied parameters', () => {
   it('maps free values to all values, resolving ties in dependency order', () => {
     const v = set.values([0.5, 2.0, 0.3, 0.01]);
     // Reference: the same arithmetic written out by hand.
-    expect(v[set.indexOf('amp')]).toBe(0.9);
+    expect(v[set.indexOf('s0sq')]).toBe(0.9);
     expect(v[set.indexOf('r2')]).toBeCloseTo(2.3, 14);
     expect(v[set.indexOf('r3')]).toBeCloseTo((2.3 * 2.0) / 2, 14);
     expect(v[set.indexOf('msrd2')]).toBeCloseTo(0.02, 15);
@@ -38,7 +38,7 @@ describe('free, fixed and tied parameters', () => {
     const g = set.valueJacobian(free);
     const nf = 4;
     const row = (name: string) => [...g.subarray(set.indexOf(name) * nf, set.indexOf(name) * nf + nf)];
-    expect(row('amp')).toEqual([0, 0, 0, 0]);
+    expect(row('s0sq')).toEqual([0, 0, 0, 0]);
     expect(row('r1')).toEqual([0, 1, 0, 0]);
     expect(row('r2')).toEqual([0, 1, 1, 0]);
     // r3 = (r1 + dr) r1 / 2: d/dr1 = (2 r1 + dr)/2 = 2.15, d/ddr = r1/2 = 1.0 (hand calculus).
@@ -57,7 +57,7 @@ describe('free, fixed and tied parameters', () => {
     cov[1 * 4 + 2] = cov[2 * 4 + 1] = -0.6 * sd[1] * sd[2];
     const { estimates } = set.propagate(free, cov);
     const byName = Object.fromEntries(estimates.map((e) => [e.name, e]));
-    expect(byName.amp.error).toBe(0);
+    expect(byName.s0sq.error).toBe(0);
     expect(byName.r1.error).toBeCloseTo(0.01, 15);
     // r2 = r1 + dr: var = s1^2 + s2^2 + 2 c s1 s2 (exact for a linear tie).
     expect(byName.r2.error).toBeCloseTo(Math.sqrt(0.01 ** 2 + 0.02 ** 2 - 2 * 0.6 * 0.01 * 0.02), 14);
@@ -84,7 +84,7 @@ describe('free, fixed and tied parameters', () => {
   it('gives NaN errors (not zero) when there is no covariance', () => {
     const { estimates } = set.propagate([0.5, 2.0, 0.3, 0.01], null);
     expect(estimates.find((e) => e.name === 'r2')!.error).toBeNaN();
-    expect(estimates.find((e) => e.name === 'amp')!.error).toBe(0);
+    expect(estimates.find((e) => e.name === 's0sq')!.error).toBe(0);
   });
 });
 
@@ -101,7 +101,7 @@ describe('invalid parameter sets are refused with an InputError naming the param
     ['a NaN value', [{ name: 'n1', value: NaN }], /"n1": needs a finite value/],
     ['a start outside its bounds', [{ name: 'msrd', value: -0.01, lower: 0 }], /"msrd": value -0.01 lies outside/],
     ['crossed bounds', [{ name: 'e0', value: 0, lower: 5, upper: -5 }], /"e0": lower bound 5 is not below/],
-    ['bounds on a fixed parameter', [{ name: 'amp', value: 0.9, state: 'fixed', lower: 0 }], /"amp": only free parameters may have bounds/],
+    ['bounds on a fixed parameter', [{ name: 's0sq', value: 0.9, state: 'fixed', lower: 0 }], /"s0sq": only free parameters may have bounds/],
     ['a tied parameter without expression', [{ name: 'r2', state: 'tied' }], /"r2": tied but has no expression/],
     ['an expression on a fixed parameter', [{ name: 'r2', state: 'fixed', value: 1, expression: '2' }], /"r2": has an expression/],
     ['a refused expression', [{ name: 'r1', value: 1 }, { name: 'r2', expression: 'evaluate(r1)' }], /r2.*expression "evaluate\(r1\)" refused/],

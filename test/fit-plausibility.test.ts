@@ -19,12 +19,12 @@ function plausible(): PlausibilityInput {
   return {
     status: { converged: true, message: 'converged' },
     params: {
-      amp: { value: 0.9, state: 'fixed' },
+      s0sq: { value: 0.9, state: 'fixed' },
       e0: { value: 2, state: 'free', lower: -30, upper: 30 },
       r_Cu_1: { value: 2.55, state: 'free', lower: 2.05, upper: 3.05 },
     },
     shells: [{ dataset: 'data', id: 'Cu.1', r0: 2.5527, r: { value: 2.55 }, msrd: { value: 0.008 } }],
-    datasets: [{ name: 'data', amp: 0.9, e0: 2 }],
+    datasets: [{ name: 'data', s0sq: 0.9, e0: 2 }],
   };
 }
 
@@ -48,17 +48,17 @@ describe('plausibilityWarnings', () => {
   });
 
   it('S0^2: none at 0.6 and 1.2, a warning just outside', () => {
-    for (const amp of [MIN_S0SQ, MAX_S0SQ]) {
+    for (const s0sq of [MIN_S0SQ, MAX_S0SQ]) {
       const at = plausible();
-      at.datasets = [{ name: 'data', amp, e0: 2 }];
+      at.datasets = [{ name: 'data', s0sq, e0: 2 }];
       expect(codes(at)).toEqual([]);
     }
-    for (const [amp, limit] of [[MIN_S0SQ - eps, MIN_S0SQ], [MAX_S0SQ + eps, MAX_S0SQ]]) {
+    for (const [s0sq, limit] of [[MIN_S0SQ - eps, MIN_S0SQ], [MAX_S0SQ + eps, MAX_S0SQ]]) {
       const out = plausible();
-      out.datasets = [{ name: 'data', amp, e0: 2 }];
+      out.datasets = [{ name: 'data', s0sq, e0: 2 }];
       const w = plausibilityWarnings(out);
       expect(w.map((x) => x.code)).toEqual(['s0sq-range']);
-      expect(w[0]).toMatchObject({ parameter: 'amp', value: amp, limit });
+      expect(w[0]).toMatchObject({ parameter: 's0sq', value: s0sq, limit });
     }
     expect(MIN_S0SQ).toBe(0.6);
     expect(MAX_S0SQ).toBe(1.2);
@@ -67,10 +67,10 @@ describe('plausibilityWarnings', () => {
   it('|e0|: none at 10 eV either sign, a warning just above', () => {
     for (const e0 of [MAX_ABS_E0, -MAX_ABS_E0]) {
       const at = plausible();
-      at.datasets = [{ name: 'data', amp: 0.9, e0 }];
+      at.datasets = [{ name: 'data', s0sq: 0.9, e0 }];
       expect(codes(at)).toEqual([]);
       const out = plausible();
-      out.datasets = [{ name: 'data', amp: 0.9, e0: e0 * (1 + 1e-9), e0Expression: 'dE' }];
+      out.datasets = [{ name: 'data', s0sq: 0.9, e0: e0 * (1 + 1e-9), e0Expression: 'dE' }];
       const w = plausibilityWarnings(out);
       expect(w.map((x) => x.code)).toEqual(['e0-range']);
       expect(w[0]).toMatchObject({ parameter: 'dE', limit: 10 });
@@ -122,7 +122,7 @@ describe('plausibilityWarnings', () => {
 
   it('names the data set when there are several', () => {
     const two = plausible();
-    two.datasets = [{ name: 'a', amp: 0.9, e0: 2 }, { name: 'b', amp: 0.3, e0: 2 }];
+    two.datasets = [{ name: 'a', s0sq: 0.9, e0: 2 }, { name: 'b', s0sq: 0.3, e0: 2 }];
     const w = plausibilityWarnings(two);
     expect(w).toHaveLength(1);
     expect(w[0]).toMatchObject({ code: 's0sq-range', dataset: 'b' });
@@ -136,26 +136,26 @@ describe('plausibility warnings end to end (measured Cu foil, S0^2 fixed at 0.3)
   const args = ['fit', cuData, cuP1, '--absorber', 'Cu', '--r', '1.5:3'];
 
   it('JSON plausibility, text and report carry the S0^2 warning; S0^2 0.9 does not', async () => {
-    const json = await cli([...args, '--amp', '0.3', '--json']);
+    const json = await cli([...args, '--s0sq', '0.3', '--json']);
     expect(json.code, json.stderr).toBe(0);
     const doc = JSON.parse(json.stdout);
     const s0sq = doc.plausibility.filter((w: { code: string }) => w.code === 's0sq-range');
     expect(s0sq).toHaveLength(1);
-    expect(s0sq[0]).toMatchObject({ parameter: 'amp', value: 0.3, limit: 0.6 });
+    expect(s0sq[0]).toMatchObject({ parameter: 's0sq', value: 0.3, limit: 0.6 });
     expect(doc.warnings).toContain(s0sq[0].message);
 
     const dir = mkdtempSync(join(tmpdir(), 'shellrank-plausibility-'));
     try {
-      const text = await cli([...args, '--amp', '0.3', '--report', dir]);
+      const text = await cli([...args, '--s0sq', '0.3', '--report', dir]);
       expect(text.code, text.stderr).toBe(0);
-      expect(text.stdout).toMatch(/warning: S0\^2 \(amp\) = 0\.300 is outside 0\.6-1\.2/);
-      expect(readFileSync(join(dir, 'report.html'), 'utf8')).toMatch(/S0\^2 \(amp\) = 0\.300 is outside 0\.6-1\.2/);
+      expect(text.stdout).toMatch(/warning: S0\^2 \(s0sq\) = 0\.300 is outside 0\.6-1\.2/);
+      expect(readFileSync(join(dir, 'report.html'), 'utf8')).toMatch(/S0\^2 \(s0sq\) = 0\.300 is outside 0\.6-1\.2/);
     } finally {
       rmSync(dir, { recursive: true, force: true });
     }
 
     // the control: the customary S0^2 of a metal foil gives no S0^2 warning
-    const control = await cli([...args, '--amp', '0.9', '--json']);
+    const control = await cli([...args, '--s0sq', '0.9', '--json']);
     expect(control.code, control.stderr).toBe(0);
     expect(JSON.parse(control.stdout).plausibility.filter((w: { code: string }) => w.code === 's0sq-range')).toEqual([]);
   }, 300_000);

@@ -22,7 +22,7 @@ function constantTable(amplitude: number, phase: number, lambda: number): Scatte
 
 describe('evaluateModel', () => {
   it('reproduces the EXAFS equation written out by hand for one path with constant functions (docs/methods.md)', () => {
-    const params: ModelParameters = { amp: 0.9, e0: 0, paths: [{ n: 6, r: 2.1, msrd: 0.005, c3: 0.0002, c4: 0.00001 }] };
+    const params: ModelParameters = { s0sq: 0.9, e0: 0, paths: [{ n: 6, r: 2.1, msrd: 0.005, c3: 0.0002, c4: 0.00001 }] };
     const { chi } = evaluateModel(k, [constantTable(0.4, -1.1, 8)], params);
     for (let i = 0; i < k.length; i += 17) {
       const q = k[i];
@@ -32,7 +32,7 @@ describe('evaluateModel', () => {
     }
   });
   it('shifts k by the E0 shift: q = sqrt(k^2 - 0.2624683 e0) (docs/methods.md, Kinematics)', () => {
-    const base: ModelParameters = { amp: 1, e0: 0, paths: [{ n: 1, r: 2.5, msrd: 0, c3: 0, c4: 0 }] };
+    const base: ModelParameters = { s0sq: 1, e0: 0, paths: [{ n: 1, r: 2.5, msrd: 0, c3: 0, c4: 0 }] };
     const shifted: ModelParameters = { ...base, e0: 10 };
     const t = constantTable(0.5, 0, 1e9);
     expect(K2_PER_EV).toBeCloseTo(0.2624683, 6); // 1 / 3.8099821 eV Å^2 (hbar^2 / 2 m_e, CODATA 2018) = 0.26246842; checked to 6 digits
@@ -43,7 +43,7 @@ describe('evaluateModel', () => {
   });
   it('has analytic derivatives that agree with central finite differences (rel. 1e-5)', () => {
     const params: ModelParameters = {
-      amp: 0.85, e0: 3.2,
+      s0sq: 0.85, e0: 3.2,
       paths: [{ n: 4, r: 1.96, msrd: 0.004, c3: 0.0001, c4: 0.00002 }, { n: 12, r: 2.56, msrd: 0.008, c3: -0.0002, c4: 0.00001 }],
     };
     const tables = [tableO, tableCu];
@@ -61,7 +61,7 @@ describe('evaluateModel', () => {
     };
     const withPath = (p: ModelParameters, j: number, key: 'n' | 'r' | 'msrd' | 'c3' | 'c4', h: number): ModelParameters =>
       ({ ...p, paths: p.paths.map((q, i) => (i === j ? { ...q, [key]: q[key] + h } : q)) });
-    check(derivatives!.amp, (p, h) => ({ ...p, amp: p.amp + h }), 1e-6);
+    check(derivatives!.s0sq, (p, h) => ({ ...p, s0sq: p.s0sq + h }), 1e-6);
     // the e0 derivative goes through the interpolated tables, whose derivative is piecewise: looser step
     check(derivatives!.e0, (p, h) => ({ ...p, e0: p.e0 + h }), 1e-4);
     for (let j = 0; j < 2; j++) {

@@ -22,14 +22,14 @@ const A: Shell[] = [{ species: 'O', n: 4, r: 1.95 }, { species: 'Fe', n: 8, r: 3
 // B is not A scaled: other ratios of coordination numbers and of distances
 const B: Shell[] = [{ species: 'O', n: 6, r: 2.12 }, { species: 'Fe', n: 4, r: 3.05 }];
 
-/** chi(k) of fraction f of A plus 1 - f of B (amp 0.9, e0 2 eV), seeded noise rms 0.0005. */
+/** chi(k) of fraction f of A plus 1 - f of B (s0sq 0.9, e0 2 eV), seeded noise rms 0.0005. */
 function mixtureChi(f: number) {
   const k = Float64Array.from({ length: 321 }, (_, i) => i * 0.05);
   const total = new Float64Array(k.length);
   for (const [shells, w] of [[A, f], [B, 1 - f]] as const) {
     const set = shellsOfStructure(clusterOf(shells), { absorber: { index: 0 }, radius: 4.6 });
     const tables = tablesForPaths(set, set.paths, parametricProvider, 17);
-    const chi = evaluateModel(k, tables, { amp: 0.9, e0: 2, paths: set.paths.map((p) => ({ n: p.degeneracy * w, r: p.r, msrd: simulationMsrd(p.r), c3: 0, c4: 0 })) }).chi;
+    const chi = evaluateModel(k, tables, { s0sq: 0.9, e0: 2, paths: set.paths.map((p) => ({ n: p.degeneracy * w, r: p.r, msrd: simulationMsrd(p.r), c3: 0, c4: 0 })) }).chi;
     chi.forEach((v, i) => { total[i] += v; });
   }
   const random = seededRandom(5);

@@ -25,8 +25,8 @@ const tables = tablesForPaths(pathSet, paths, parametricProvider, 16);
 const k = Float64Array.from({ length: 321 }, (_, i) => i * 0.05);
 const msrd = paths.map((p) => 0.003 + 0.001 * p.r);
 
-function simulated(amp: number, e0: number): Float64Array {
-  return evaluateModel(k, tables, { amp, e0, paths: paths.map((p, j) => ({ n: p.degeneracy, r: p.r, msrd: msrd[j], c3: 0, c4: 0 })) }).chi;
+function simulated(s0sq: number, e0: number): Float64Array {
+  return evaluateModel(k, tables, { s0sq, e0, paths: paths.map((p, j) => ({ n: p.degeneracy, r: p.r, msrd: msrd[j], c3: 0, c4: 0 })) }).chi;
 }
 
 function windowSettings(space: FitDomain): WindowSettings {
@@ -42,7 +42,7 @@ describe('projectChi reproduces the residual layout of buildExafsProblem', () =>
       const window = compileWindow({ name: 'synthetic', k, chi: data, noiseChi }, w);
       // the oracle: a problem with every path quantity fixed; residuals = model - data
       const problem = buildExafsProblem(
-        [{ name: 'amp', value: 0.8, state: 'fixed' }, { name: 'e0', value: -2, state: 'fixed' }],
+        [{ name: 's0sq', value: 0.8, state: 'fixed' }, { name: 'e0', value: -2, state: 'fixed' }],
         [{
           name: 'synthetic', k, chi: data, noiseChi, paths, tables,
           rules: paths.map((p, j) => ({ n: String(p.degeneracy), r: String(p.r), msrd: String(msrd[j]), c3: '0', c4: '0' })),
@@ -51,7 +51,7 @@ describe('projectChi reproduces the residual layout of buildExafsProblem', () =>
       );
       const expected = new Float64Array(problem.nResiduals);
       problem.residuals(new Float64Array(0), expected);
-      const model = evaluateModel(window.dataset.modelK, tables, { amp: 0.8, e0: -2, paths: paths.map((p, j) => ({ n: p.degeneracy, r: p.r, msrd: msrd[j], c3: 0, c4: 0 })) }).chi;
+      const model = evaluateModel(window.dataset.modelK, tables, { s0sq: 0.8, e0: -2, paths: paths.map((p, j) => ({ n: p.degeneracy, r: p.r, msrd: msrd[j], c3: 0, c4: 0 })) }).chi;
       const projected = new Float64Array(window.nResiduals);
       projectChi(window, model, projected);
       const scale = Math.max(...expected.map(Math.abs));
@@ -61,16 +61,16 @@ describe('projectChi reproduces the residual layout of buildExafsProblem', () =>
 });
 
 describe('prescreen', () => {
-  it('recovers amp and e0 of a noise-free spectrum (amp 0.85 and e0 3 eV put in; tolerance 1e-3 and 0.01 eV)', () => {
+  it('recovers s0sq and e0 of a noise-free spectrum (s0sq 0.85 and e0 3 eV put in; tolerance 1e-3 and 0.01 eV)', () => {
     const window = compileWindow({ name: 'synthetic', k, chi: simulated(0.85, 3), noiseChi: 1e-4 }, windowSettings('r'));
-    const result = prescreen(window, [{ paths, tables, msrd }], { amp: 'free', ampBounds: [0.5, 1.5], e0Range: [-15, 15] });
-    expect(result.amp.value).toBeCloseTo(0.85, 3);
+    const result = prescreen(window, [{ paths, tables, msrd }], { s0sq: 'free', s0sqBounds: [0.5, 1.5], e0Range: [-15, 15] });
+    expect(result.s0sq.value).toBeCloseTo(0.85, 3);
     expect(Math.abs(result.e0.value - 3)).toBeLessThan(0.01);
     // the fine q grid interpolation leaves a tiny misfit only (R-factor < 1e-6)
     expect(result.stats.rFactor).toBeLessThan(1e-6);
   });
 
-  it('reaches the same optimum and errors as a Levenberg-Marquardt refinement of amp and e0 (1e-4 relative chi-square)', () => {
+  it('reaches the same optimum and errors as a Levenberg-Marquardt refinement of s0sq and e0 (1e-4 relative chi-square)', () => {
     // noisy data: seeded pseudo-random noise (a linear congruential generator, Knuth TAOCP vol. 2)
     let state = 12345;
     const noise = () => { state = (1103515245 * state + 12345) % 2147483648; return state / 2147483648 - 0.5; };
@@ -79,9 +79,9 @@ describe('prescreen', () => {
     const w = windowSettings('r');
     const noiseChi = 0.004 / Math.sqrt(12);
     const window = compileWindow({ name: 'noisy', k, chi: data, noiseChi }, w);
-    const quick = prescreen(window, [{ paths, tables, msrd }], { amp: 'free', ampBounds: [0.5, 1.5], e0Range: [-15, 15] });
+    const quick = prescreen(window, [{ paths, tables, msrd }], { s0sq: 'free', s0sqBounds: [0.5, 1.5], e0Range: [-15, 15] });
     const problem = buildExafsProblem(
-      [{ name: 'amp', value: 0.9, lower: 0.5, upper: 1.5 }, { name: 'e0', value: 0, lower: -15, upper: 15 }],
+      [{ name: 's0sq', value: 0.9, lower: 0.5, upper: 1.5 }, { name: 'e0', value: 0, lower: -15, upper: 15 }],
       [{
         name: 'noisy', k, chi: data, noiseChi, paths, tables,
         rules: paths.map((p, j) => ({ n: String(p.degeneracy), r: String(p.r), msrd: String(msrd[j]), c3: '0', c4: '0' })),
@@ -90,10 +90,10 @@ describe('prescreen', () => {
     );
     const full = refine(problem);
     expect(Math.abs(quick.stats.chiSquare / full.stats.chiSquare - 1)).toBeLessThan(1e-4);
-    expect(quick.amp.value).toBeCloseTo(full.params.amp.value, 3);
+    expect(quick.s0sq.value).toBeCloseTo(full.params.s0sq.value, 3);
     expect(quick.e0.value).toBeCloseTo(full.params.e0.value, 2);
     expect(quick.e0.error / full.params.e0.error).toBeCloseTo(1, 2);
-    expect(quick.amp.error / full.params.amp.error).toBeCloseTo(1, 2);
+    expect(quick.s0sq.error / full.params.s0sq.error).toBeCloseTo(1, 2);
   });
 
   it('fits the fraction of a two-component mixture (0.3 put in; tolerance 0.01)', () => {
@@ -101,14 +101,14 @@ describe('prescreen', () => {
     const longer = paths.map((p) => ({ ...p, r: p.r * 1.03 }));
     const tablesLonger = tablesForPaths(pathSet, longer, parametricProvider, 16);
     const mix = (f: number) => {
-      const a1 = evaluateModel(k, tables, { amp: 0.9, e0: 1, paths: paths.map((p, j) => ({ n: p.degeneracy * f, r: p.r, msrd: msrd[j], c3: 0, c4: 0 })) }).chi;
-      const a2 = evaluateModel(k, tablesLonger, { amp: 0.9, e0: 1, paths: longer.map((p, j) => ({ n: p.degeneracy * (1 - f), r: p.r, msrd: msrd[j], c3: 0, c4: 0 })) }).chi;
+      const a1 = evaluateModel(k, tables, { s0sq: 0.9, e0: 1, paths: paths.map((p, j) => ({ n: p.degeneracy * f, r: p.r, msrd: msrd[j], c3: 0, c4: 0 })) }).chi;
+      const a2 = evaluateModel(k, tablesLonger, { s0sq: 0.9, e0: 1, paths: longer.map((p, j) => ({ n: p.degeneracy * (1 - f), r: p.r, msrd: msrd[j], c3: 0, c4: 0 })) }).chi;
       return Float64Array.from(a1, (v, i) => v + a2[i]);
     };
     const window = compileWindow({ name: 'mixture', k, chi: mix(0.3), noiseChi: 1e-4 }, windowSettings('r'));
-    const result = prescreen(window, [{ paths, tables, msrd }, { paths: longer, tables: tablesLonger, msrd }], { amp: 'free', ampBounds: [0.5, 1.5], e0Range: [-10, 10] });
+    const result = prescreen(window, [{ paths, tables, msrd }, { paths: longer, tables: tablesLonger, msrd }], { s0sq: 'free', s0sqBounds: [0.5, 1.5], e0Range: [-10, 10] });
     expect(result.fraction!.value).toBeCloseTo(0.3, 2);
-    expect(result.amp.value).toBeCloseTo(0.9, 2);
+    expect(result.s0sq.value).toBeCloseTo(0.9, 2);
     expect(result.stats.nVaried).toBe(3);
   });
 });

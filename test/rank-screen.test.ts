@@ -105,7 +105,7 @@ describe('shellrank screen', () => {
     dir = mkdtempSync(join(tmpdir(), 'shellrank-screen-'));
     const base = clusterOf([{ species: 'O', n: 6, r: 2.0 }, { species: 'Fe', n: 12, r: 3.0 }, { species: 'O', n: 8, r: 3.55 }]);
     writeFileSync(join(dir, 'base.xyz'), xyzFrame(base, 'invented base cluster'));
-    // the data come from the base with one O of the first shell removed, amp 0.9
+    // the data come from the base with one O of the first shell removed, s0sq 0.9
     const truth = clusterOf([{ species: 'O', n: 5, r: 2.0 }, { species: 'Fe', n: 12, r: 3.0 }, { species: 'O', n: 8, r: 3.55 }]);
     writeFileSync(join(dir, 'data.json'), chiToJson(syntheticChi(truth, 11, 0.001)));
     return () => rmSync(dir, { recursive: true, force: true });

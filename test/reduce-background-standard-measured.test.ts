@@ -44,7 +44,7 @@ describe('CuO 13 K: background with the fitted model as standard', () => {
       const first = set.paths.filter((p) => p.r <= r1 + 0.15);
       const tails = set.paths.filter((p) => p.r > r1 + 0.15 && p.r <= rRange[1] + 0.5);
       const parameters: ParameterSpec[] = [
-        { name: 'amp', value: 0.9, lower: 0.05, upper: 3 }, { name: 'e0', value: 0, lower: -30, upper: 30 },
+        { name: 's0sq', value: 0.9, lower: 0.05, upper: 3 }, { name: 'e0', value: 0, lower: -30, upper: 30 },
         { name: 'dr1', value: 0, lower: -0.5, upper: 0.5 }, { name: 'msrd1', value: 0.005, lower: -0.01, upper: 0.1 },
       ];
       const rules: PathRule[] = first.map((p) => ({ n: String(p.degeneracy), r: `${p.r} + dr1`, msrd: 'msrd1', c3: '0', c4: '0' }));

@@ -96,7 +96,7 @@ describe('short pre-edge', () => {
 
 describe('fit takes the absorber and edge from the data', () => {
   it('Au L3 foil against fcc Au with no --absorber and no --edge: L3, first shell within 0.02 Å of a/sqrt(2)', async () => {
-    const run = await cli(['fit', AU, AU_FCC, '--amp', 'free', '--k', '3:12', '--r', '1.8:3.2', '--json']);
+    const run = await cli(['fit', AU, AU_FCC, '--s0sq', 'free', '--k', '3:12', '--r', '1.8:3.2', '--json']);
     expect(run.code).toBe(0);
     const doc = JSON.parse(run.stdout);
     expect(doc.data.edge).toBe('L3');
@@ -131,7 +131,7 @@ describe('fit takes the absorber and edge from the data', () => {
     const doc = JSON.parse(readFileSync(saved, 'utf8'));
     doc.edge = null;
     writeFileSync(saved, JSON.stringify(doc));
-    const run = await cli(['fit', saved, AU_FCC, '--edge', 'L2', '--amp', 'free', '--k', '3:12', '--r', '1.8:3.2', '--json']);
+    const run = await cli(['fit', saved, AU_FCC, '--edge', 'L2', '--s0sq', 'free', '--k', '3:12', '--r', '1.8:3.2', '--json']);
     expect(run.code).toBe(0);
     const fit = JSON.parse(run.stdout);
     expect(Math.abs(fit.shells[0].r.value - AU_R1)).toBeLessThan(0.02);
@@ -141,7 +141,7 @@ describe('fit takes the absorber and edge from the data', () => {
     const study = join(dir, 'au.study.yaml');
     writeFileSync(study, [
       'parameters:',
-      '  amp: { value: 0.9, bounds: [0.3, 1.5] }',
+      '  s0sq: { value: 0.9, bounds: [0.3, 1.5] }',
       '  e0: { value: 0, bounds: [-15, 15] }',
       'datasets:',
       `  - { data: ${JSON.stringify(AU)}, structure: ${JSON.stringify(AU_FCC)}, k: 3:12, r: 1.8:3.2 }`,

@@ -53,12 +53,12 @@ describe('result detection and validation', () => {
   it('accepts nulls (our JSON writer\'s NaN) and a correlation matrix', () => {
     const fit = fabricatedFit('a', 0) as unknown as Record<string, unknown>;
     (fit.stats as Record<string, unknown>).aic = null;
-    fit.correlations = { names: ['amp', 'e0', 'r'], matrix: [[1, 0.2, 0.95], [0.2, 1, -0.4], [0.95, -0.4, 1]] };
+    fit.correlations = { names: ['s0sq', 'e0', 'r'], matrix: [[1, 0.2, 0.95], [0.2, 1, -0.4], [0.95, -0.4, 1]] };
     const model = reportModelFrom(fit);
     expect(model.candidates[0].stats.aic).toBeNull();
     expect(model.candidates[0].correlations).toEqual([
-      { a: 'amp', b: 'e0', value: 0.2 },
-      { a: 'amp', b: 'r', value: 0.95 },
+      { a: 's0sq', b: 'e0', value: 0.2 },
+      { a: 's0sq', b: 'r', value: 0.95 },
       { a: 'e0', b: 'r', value: -0.4 },
     ]);
   });

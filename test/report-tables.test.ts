@@ -221,15 +221,15 @@ describe('tables: ranking and parameter tables', () => {
     expect(lines[2]).toContain(String(model.candidates[1].stats.rFactor)); // unrounded
   });
 
-  it('lists amp, e0 and each shell\'s n, r, msrd with errors, units and states', () => {
+  it('lists s0sq, e0 and each shell\'s n, r, msrd with errors, units and states', () => {
     const table = fitParameterTable(model.candidates[0]);
     const names = table.rows.map((r) => `${r[0].csv}:${r[1].text}`);
-    expect(names).toEqual(['amp:', 'e0:', 'n:O 1', 'r:O 1', 'msrd:O 1', 'n:Zn 2', 'r:Zn 2', 'msrd:Zn 2']); // labels that name the species are not repeated
+    expect(names).toEqual(['s0sq:', 'e0:', 'n:O 1', 'r:O 1', 'msrd:O 1', 'n:Zn 2', 'r:Zn 2', 'msrd:Zn 2']); // labels that name the species are not repeated
     const r = table.rows[3];
     expect(r[2].text).toBe('1.951(12)'); // fixture r = 1.9512 ± 0.0123: 123 -> two digits
     expect(r[3].text).toBe('1.951 ± 0.012');
     expect(r[4].text).toBe('Å');
-    expect(table.rows[0][2].text).toBe('0.9'); // amp fixed, error 0
+    expect(table.rows[0][2].text).toBe('0.9'); // s0sq fixed, error 0
     expect(table.rows[0][5].text).toBe('fixed');
     const tex = tableToLatex(table);
     expect(tex).toContain('1.951 $\\pm$ 0.012');

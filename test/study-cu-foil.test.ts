@@ -4,7 +4,7 @@
  * test/fixtures/structures/cu-p1.cif). The reference is the fit command's own result on the same
  * files: the study layer must not change a number (tolerance 1e-9 relative, 1e-12 absolute).
  * The default scattering provider (first principles) is used where the brief asks for fit's
- * default result; variants that only check the plumbing of amp use the 'parametric' provider
+ * default result; variants that only check the plumbing of s0sq use the 'parametric' provider
  * (fast; the physics does not matter for them).
  */
 import { describe, expect, it } from 'vitest';
@@ -28,12 +28,12 @@ function close(a: number, b: number, what: string): void {
   expect(Math.abs(a - b), `${what}: ${a} vs ${b}`).toBeLessThanOrEqual(1e-12 + 1e-9 * Math.abs(b));
 }
 
-/** Every number the fit command reports for amp, e0, the shells and the statistics agrees. */
+/** Every number the fit command reports for s0sq, e0, the shells and the statistics agrees. */
 function expectSameFit(study: Doc, fit: Doc): void {
   expect(study.status.converged).toBe(true);
   expect(study.status.iterations).toBe(fit.status.iterations);
   for (const key of ['rFactor', 'chiSquare', 'reducedChiSquare', 'nIndependent', 'nVaried', 'nPoints', 'aic', 'bic']) close(study.stats[key], fit.stats[key], `stats.${key}`);
-  for (const name of ['amp', 'e0']) {
+  for (const name of ['s0sq', 'e0']) {
     close(study.params[name].value, fit.params[name].value, `${name}.value`);
     close(study.params[name].error, fit.params[name].error, `${name}.error`);
     expect(study.params[name].state).toBe(fit.params[name].state);
@@ -70,13 +70,13 @@ describe('a study reproduces shellrank fit on the measured Cu foil', () => {
     expect(Math.abs(minimal.shells[0].r.value - 3.6149 / Math.SQRT2)).toBeLessThan(0.05);
   });
 
-  it('amp free in the study equals --amp free, and amp from a reference fit equals --amp-from (parametric provider)', async () => {
+  it('s0sq free in the study equals --s0sq free, and s0sq from a reference fit equals --s0sq-from (parametric provider)', async () => {
     const folder = tempFolder();
-    const fitFree = await json(['fit', cuData, cuP1, '--absorber', 'Cu', '--amp', 'free', '--r', '1.5:3', '--provider', 'parametric']);
+    const fitFree = await json(['fit', cuData, cuP1, '--absorber', 'Cu', '--s0sq', 'free', '--r', '1.5:3', '--provider', 'parametric']);
     const study = [
       'provider: parametric',
       'parameters:',
-      '  amp: { value: 0.9, bounds: [0.05, 3] }   # the fit command\'s free amp',
+      '  s0sq: { value: 0.9, bounds: [0.05, 3] }   # the fit command\'s free s0sq',
       'datasets:',
       `  - { data: ${cuData}, structure: ${cuP1}, absorber: Cu, r: 1.5:3 }`,
       '',
@@ -85,11 +85,11 @@ describe('a study reproduces shellrank fit on the measured Cu foil', () => {
     expectSameFit(await json(['run', join(folder, 'free.study.yaml')]), fitFree);
 
     // a reference fit saved beside the study, read through a relative path
-    writeFileSync(join(folder, 'reference.fit.json'), JSON.stringify({ params: { amp: { value: 0.8312, error: 0.04, state: 'free' } } }));
-    const fitFrom = await json(['fit', cuData, cuP1, '--absorber', 'Cu', '--amp-from', join(folder, 'reference.fit.json'), '--r', '1.5:3', '--provider', 'parametric']);
-    writeFileSync(join(folder, 'from.study.yaml'), study.replace(/amp: \{.*\n/, 'amp: { from: reference.fit.json }\n'));
+    writeFileSync(join(folder, 'reference.fit.json'), JSON.stringify({ params: { s0sq: { value: 0.8312, error: 0.04, state: 'free' } } }));
+    const fitFrom = await json(['fit', cuData, cuP1, '--absorber', 'Cu', '--s0sq-from', join(folder, 'reference.fit.json'), '--r', '1.5:3', '--provider', 'parametric']);
+    writeFileSync(join(folder, 'from.study.yaml'), study.replace(/s0sq: \{.*\n/, 's0sq: { from: reference.fit.json }\n'));
     const fromStudy = await json(['run', join(folder, 'from.study.yaml')]);
-    expect(fromStudy.params.amp).toMatchObject({ value: 0.8312, state: 'fixed' });
+    expect(fromStudy.params.s0sq).toMatchObject({ value: 0.8312, state: 'fixed' });
     expectSameFit(fromStudy, fitFrom);
   });
 

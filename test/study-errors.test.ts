@@ -25,7 +25,7 @@ const FILE = 'bad.study.yaml';
 const VALID = [
   'provider: parametric', //                     1
   'parameters:', //                              2
-  '  amp: 0.9', //                               3
+  '  s0sq: 0.9', //                               3
   '  e0: { value: 0, bounds: [-10, 10] }', //    4
   '  s1: { value: 0.005, bounds: [0, 0.05] }', // 5
   'datasets:', //                                6
@@ -143,7 +143,7 @@ describe('study error messages name the file, the line and the key', () => {
   });
 
   it('bounds on a fixed parameter and a value outside its bounds come from the parameter rules, at their lines', () => {
-    expect(studyError(replace(3, '  amp: { value: 0.9, state: fixed, bounds: [0, 1] }')).message).toMatch(/^bad\.study\.yaml:3: parameters\.amp: parameter "amp": only free parameters may have bounds/);
+    expect(studyError(replace(3, '  s0sq: { value: 0.9, state: fixed, bounds: [0, 1] }')).message).toMatch(/^bad\.study\.yaml:3: parameters\.s0sq: parameter "s0sq": only free parameters may have bounds/);
     expect(studyError(replace(5, '  s1: { value: 0.5, bounds: [0, 0.05] }')).message).toMatch(/^bad\.study\.yaml:5: parameters\.s1: parameter "s1": value 0\.5 lies outside its bounds/);
     expect(studyError(replace(5, '  r0: { value: 0.005 }')).message).toMatch(/^bad\.study\.yaml:5: parameters\.r0: 'r0' cannot name a parameter/);
   });
@@ -167,10 +167,10 @@ describe('study error messages name the file, the line and the key', () => {
   });
 
   it('a reference fit without the parameter asked for', () => {
-    writeFileSync(join(folder, 'ref.fit.json'), JSON.stringify({ params: { amp: { value: 0.8 } } }));
-    expect(studyError(replace(3, '  amp: { from: { file: ref.fit.json, parameter: s0 } }')).message)
-      .toMatch(/^bad\.study\.yaml:3: parameters\.amp\.from: .*ref\.fit\.json has no params\.s0\.value/);
-    expect(studyError(replace(3, '  amp: { from: missing.fit.json }')).message).toMatch(/^bad\.study\.yaml:3: parameters\.amp\.from: .*missing\.fit\.json: no such file/);
+    writeFileSync(join(folder, 'ref.fit.json'), JSON.stringify({ params: { s0sq: { value: 0.8 } } }));
+    expect(studyError(replace(3, '  s0sq: { from: { file: ref.fit.json, parameter: s0 } }')).message)
+      .toMatch(/^bad\.study\.yaml:3: parameters\.s0sq\.from: .*ref\.fit\.json has no params\.s0\.value/);
+    expect(studyError(replace(3, '  s0sq: { from: missing.fit.json }')).message).toMatch(/^bad\.study\.yaml:3: parameters\.s0sq\.from: .*missing\.fit\.json: no such file/);
   });
 
   it('the run command prints one line with the location and exits with code 2', async () => {

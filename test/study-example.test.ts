@@ -18,23 +18,23 @@ const mu = reducedMass(elementBySymbol('Cu').weight, elementBySymbol('Cu').weigh
 // invented truth
 const THETA_1 = 240; // K, first shell
 const THETA_2 = 200; // K, second shell (fitted per data set in the study)
-const ALPHA = -0.003;
+const EXPANSION = -0.003;
 const E0 = 0.8;
-const AMP = 0.9;
+const S0SQ = 0.9;
 
 describe('the README example study', () => {
-  it('runs: reference fit, amp from it, four temperatures with one Einstein temperature', async () => {
+  it('runs: reference fit, s0sq from it, four temperatures with one Einstein temperature', async () => {
     const folder = tempFolder();
     const shellsAt = (t: number) => [
       { n: 12, r: 2.548, msrd: einsteinMsrd(mu, THETA_1, t) },
-      { n: 6, r: 3.6149 * (1 + ALPHA), msrd: einsteinMsrd(mu, THETA_2, t) },
+      { n: 6, r: 3.6149 * (1 + EXPANSION), msrd: einsteinMsrd(mu, THETA_2, t) },
     ];
-    // the S0^2 calibration: a reference measured at 20 K, fitted with amp free by the fit command
-    const reference = writeSyntheticCuChi(folder, 'cu-reference.chi.json', { amp: AMP, e0: E0, noise: 0.001, seed: 50, shells: shellsAt(20) });
-    const ref = await cli(['fit', reference, CU_STRUCTURE, '--absorber', 'Cu', '--amp', 'free', '--r', '1.5:3.8', '--provider', 'parametric', '--json', '--out', join(folder, 'cu-reference.fit.json')]);
+    // the S0^2 calibration: a reference measured at 20 K, fitted with s0sq free by the fit command
+    const reference = writeSyntheticCuChi(folder, 'cu-reference.chi.json', { s0sq: S0SQ, e0: E0, noise: 0.001, seed: 50, shells: shellsAt(20) });
+    const ref = await cli(['fit', reference, CU_STRUCTURE, '--absorber', 'Cu', '--s0sq', 'free', '--r', '1.5:3.8', '--provider', 'parametric', '--json', '--out', join(folder, 'cu-reference.fit.json')]);
     expect(ref.code).toBe(0);
-    const ampRef = JSON.parse(readFileSync(join(folder, 'cu-reference.fit.json'), 'utf8')).params.amp.value as number;
-    [20, 150, 300, 450].forEach((t, i) => writeSyntheticCuChi(folder, `cu-${t}K.chi.json`, { amp: AMP, e0: E0, noise: 0.002, seed: 60 + i, shells: shellsAt(t) }));
+    const s0sqRef = JSON.parse(readFileSync(join(folder, 'cu-reference.fit.json'), 'utf8')).params.s0sq.value as number;
+    [20, 150, 300, 450].forEach((t, i) => writeSyntheticCuChi(folder, `cu-${t}K.chi.json`, { s0sq: S0SQ, e0: E0, noise: 0.002, seed: 60 + i, shells: shellsAt(t) }));
     const study = readFileSync(EXAMPLE, 'utf8').replace('../structures/cu-p1.cif', CU_STRUCTURE);
     writeFileSync(join(folder, 'cu-temperature-series.study.yaml'), study);
 
@@ -42,10 +42,10 @@ describe('the README example study', () => {
     expect(run.code, run.stderr).toBe(0);
     const doc = JSON.parse(run.stdout);
     expect(doc.status.converged).toBe(true);
-    expect(doc.params.amp).toMatchObject({ value: ampRef, state: 'fixed' });
+    expect(doc.params.s0sq).toMatchObject({ value: s0sqRef, state: 'fixed' });
     // one Einstein temperature for four data sets: the invented 240 K within 3 reported errors
     expect(Math.abs(doc.params.thetaE.value - THETA_1)).toBeLessThan(3 * doc.params.thetaE.error);
-    expect(Math.abs(doc.params.alpha.value - ALPHA)).toBeLessThan(3 * doc.params.alpha.error);
+    expect(Math.abs(doc.params.expansion.value - EXPANSION)).toBeLessThan(3 * doc.params.expansion.error);
     // the tied parameter carries its propagated error (equal to r1's, the tie is a shift)
     expect(doc.params.dr1.state).toBe('tied');
     expect(doc.params.dr1.error).toBeCloseTo(doc.params.r1.error, 12);
@@ -60,13 +60,13 @@ describe('the README example study', () => {
 
   it('--check prints every parameter and shell expression without fitting', async () => {
     const folder = tempFolder();
-    writeFileSync(join(folder, 'cu-reference.fit.json'), JSON.stringify({ params: { amp: { value: 0.87 } } }));
+    writeFileSync(join(folder, 'cu-reference.fit.json'), JSON.stringify({ params: { s0sq: { value: 0.87 } } }));
     [20, 150, 300, 450].forEach((t, i) => writeSyntheticCuChi(folder, `cu-${t}K.chi.json`, { noise: 0.002, seed: i }));
     writeFileSync(join(folder, 's.study.yaml'), readFileSync(EXAMPLE, 'utf8').replace('../structures/cu-p1.cif', CU_STRUCTURE));
     const run = await cli(['run', join(folder, 's.study.yaml'), '--check']);
     expect(run.code, run.stderr).toBe(0);
     expect(run.stdout).toMatch(/4 data sets, 11 parameters, 8 free/);
-    expect(run.stdout).toMatch(/^amp +fixed +0\.87 /m);
+    expect(run.stdout).toMatch(/^s0sq +fixed +0\.87 /m);
     expect(run.stdout).toMatch(/tanh\(\(thetaE\) \/ \(40\)\) \+ \(static1\)/);
     expect(run.stdout).not.toMatch(/warning: parameter dr1/); // a tied parameter kept for its reported value is no mistake
     expect(existsSync(join(folder, 'cu-series.fit.json'))).toBe(false);
@@ -76,6 +76,6 @@ describe('the README example study', () => {
     const run = await cli(['run', join(REPO, 'structures/demo-data/ni-spinel-octahedral.study.yaml'), '--check', '--provider', 'parametric']);
     expect(run.code, run.stderr).toBe(0);
     // the outer shells of the octahedral model share one msrd and one expansion factor
-    for (const id of ['Al.1', 'O.2', 'Mg.1', 'O.3']) expect(run.stdout).toMatch(new RegExp(`^ni-spinel-sample\\.xdi +${id.replace('.', '\\.')} .*\\(1 \\+ \\(alpha\\)\\) +msrd_outer`, 'm'));
+    for (const id of ['Al.1', 'O.2', 'Mg.1', 'O.3']) expect(run.stdout).toMatch(new RegExp(`^ni-spinel-sample\\.xdi +${id.replace('.', '\\.')} .*\\(1 \\+ \\(expansion\\)\\) +msrd_outer`, 'm'));
   });
 });

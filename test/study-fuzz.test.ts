@@ -24,10 +24,10 @@ const VALID = `title: fuzz base
 provider: parametric
 fit: { starts: 1, maxIterations: 50 }
 parameters:
-  amp: { value: 0.9, bounds: [0.5, 1.5] }
+  s0sq: { value: 0.9, bounds: [0.5, 1.5] }
   e0: { value: 0, bounds: [-10, 10] }
   s1: { value: 0.005, bounds: [0, 0.05] }
-  alpha: { value: 0, bounds: [-0.05, 0.05] }
+  expansion: { value: 0, bounds: [-0.05, 0.05] }
   thetaE: { value: 300, bounds: [50, 1000] }
   half: "0.5 * s1"
 defaults:
@@ -45,14 +45,14 @@ datasets:
       - include: Cu.1
         msrd: { einstein: thetaE, static: half }
       - include: { species: Cu, distance: 3:4 }
-        r: { expand: alpha }
+        r: { expand: expansion }
         msrd: { each: { value: 0.006, bounds: [0, 0.05] } }
   - name: second
     space: k
     shells:
       - include: [Cu.1]
         n: n0
-        r: r0 * (1 + alpha)
+        r: r0 * (1 + expansion)
         msrd: s1
 output: { json: out.json }
 `;
@@ -136,7 +136,7 @@ describe('study reader on random input (fast-check, seeded)', () => {
     walk(base, []);
     const value = fc.oneof(
       fc.double({ noDefaultInfinity: false, noNaN: false }), fc.integer(), fc.string({ maxLength: 12 }), fc.boolean(), fc.constant(null),
-      fc.constantFrom('3:14', '14:3', 'auto', 'Cu.2', 'each', 'r0', 'n0 * 2', 'thetaE', 'alpha + s1', 'half', 'e0', 'temperature', 'hann', 'q', 'free', 'fixed', 'tied'),
+      fc.constantFrom('3:14', '14:3', 'auto', 'Cu.2', 'each', 'r0', 'n0 * 2', 'thetaE', 'expansion + s1', 'half', 'e0', 'temperature', 'hann', 'q', 'free', 'fixed', 'tied'),
       fc.array(fc.oneof(fc.double(), fc.integer({ min: -3, max: 40 }), fc.constant(null), fc.string({ maxLength: 4 })), { maxLength: 3 }),
       fc.dictionary(fc.constantFrom('value', 'bounds', 'each', 'einstein', 'expand', 'state', 'from', 'include', 'name', 'x'), fc.oneof(fc.double(), fc.string({ maxLength: 5 }), fc.constant('s1')), { maxKeys: 3 }),
     );

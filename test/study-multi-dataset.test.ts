@@ -33,7 +33,7 @@ function seriesStudy(folder: string, files: string[]): string {
     'title: Cu first shell at four temperatures, one Einstein temperature (synthetic)',
     'provider: parametric',
     'parameters:',
-    '  amp: 0.9',
+    '  s0sq: 0.9',
     '  e0: { value: 0, bounds: [-10, 10] }',
     '  thetaE: { value: 350, bounds: [50, 2000] }   # K',
     '  r1: { value: 2.556, bounds: [2.4, 2.7] }',
@@ -142,7 +142,7 @@ describe('the same chi(k) as two data sets at two k-weights (synthetic, parametr
     const head = [
       'provider: parametric',
       'parameters:',
-      '  amp: { value: 0.9, bounds: [0.3, 1.5] }',
+      '  s0sq: { value: 0.9, bounds: [0.3, 1.5] }',
       'defaults:',
       '  data: cu.chi.json',
       `  structure: ${CU_STRUCTURE}`,
@@ -156,7 +156,7 @@ describe('the same chi(k) as two data sets at two k-weights (synthetic, parametr
     const a = runStudy(preparedTwo);
     const b = runStudy(prepareStudy(one, { providers }));
     expect(a.status.converged && b.status.converged).toBe(true);
-    for (const name of ['amp', 'e0', 'r_Cu_1', 'msrd_Cu_1']) {
+    for (const name of ['s0sq', 'e0', 'r_Cu_1', 'msrd_Cu_1']) {
       expect(Math.abs(a.params[name].value - b.params[name].value)).toBeLessThan(1e-9 * Math.max(1, Math.abs(b.params[name].value)));
     }
     // both data sets share r_Cu_1 and msrd_Cu_1 (each parameters of the same shell id)
@@ -192,14 +192,14 @@ describe('the same chi(k) as two data sets at two k-weights (synthetic, parametr
 });
 
 describe('symbols of a study inside expressions', () => {
-  it('substitutes r0, n0, mu and the data set temperature (exact values) and reads amp from {file, parameter}', () => {
+  it('substitutes r0, n0, mu and the data set temperature (exact values) and reads s0sq from {file, parameter}', () => {
     const folder = tempFolder();
     writeSyntheticCuChi(folder, 'cu.chi.json', { noise: 0.002, seed: 1 });
     writeFileSync(join(folder, 'ref.fit.json'), JSON.stringify({ params: { s0sq: { value: 0.77 } } }));
     const text = [
       'provider: parametric',
       'parameters:',
-      '  amp: { from: { file: ref.fit.json, parameter: s0sq } }',
+      '  s0sq: { from: { file: ref.fit.json, parameter: s0sq } }',
       '  slope: { value: 0.00002, bounds: [0, 0.001] }',
       'datasets:',
       '  - data: cu.chi.json',
@@ -218,7 +218,7 @@ describe('symbols of a study inside expressions', () => {
     const set = prepared.problem.parameters;
     const free = Float64Array.from(set.freeNames, (n) => (n === 'slope' ? 2e-5 : n === 'r_Cu_1' ? 2.55 : 0));
     const values = set.values(free);
-    expect(values[set.indexOf('amp')]).toBe(0.77);
+    expect(values[set.indexOf('s0sq')]).toBe(0.77);
     expect(values[set.indexOf('_d0_p0_n')]).toBe(6); // 12 nearest neighbours in fcc, halved
     expect(values[set.indexOf('_d0_p0_msrd')]).toBeCloseTo(0.001 + 2e-5 * 250, 15);
     expect(values[set.indexOf('_d0_p0_c3')]).toBeCloseTo(muCuCu * 1e-6, 18);

@@ -21,7 +21,7 @@ export type ParameterState = 'free' | 'fixed' | 'tied';
 
 /** One parameter as the user (or a recipe) declares it. */
 export interface ParameterSpec {
-  /** Name, e.g. `amp`, `e0`, `r1`; letters, digits and underscores, not starting with a digit. */
+  /** Name, e.g. `s0sq`, `e0`, `r1`; letters, digits and underscores, not starting with a digit. */
   name: string;
   /** free or fixed: the (start) value. Ignored for tied parameters. */
   value?: number;

@@ -2,17 +2,17 @@
  * The single-scattering EXAFS equation (docs/methods.md; Sayers, Stern and Lytle, Phys. Rev. Lett. 27,
  * 1204 (1971), with the cumulant expansion of Bunker, Nucl. Instrum. Methods 207, 437 (1983)):
  *
- *   chi(k) = sum_j amp N_j |f_j(q)| / (q R_j^2) exp(-2 q^2 s2_j + 2/3 q^4 c4_j) exp(-2 R_j / lambda_j(q))
+ *   chi(k) = sum_j s0sq N_j |f_j(q)| / (q R_j^2) exp(-2 q^2 s2_j + 2/3 q^4 c4_j) exp(-2 R_j / lambda_j(q))
  *            * sin(2 q R_j + phi_j(q) - 4/3 q^3 c3_j),
  *   q = sqrt(k^2 - 0.2624683 * e0)  (e0 = E0 shift in eV; q = k where the radicand is < 0 or k ~ 0),
  *
  * with |f_j|, phi_j and lambda_j from a ScatteringTable (computed at the structure's distance) and
  * interpolated to q by cubic Hermite. Partial derivatives with respect to every parameter are
  * analytic (used by the fitter):
- *   d/d amp = chi_j/amp,  d/d N_j = chi_j/N_j,  d/d s2_j = -2 q^2 chi_j,  d/d c4_j = 2/3 q^4 chi_j,
+ *   d/d s0sq = chi_j/s0sq,  d/d N_j = chi_j/N_j,  d/d s2_j = -2 q^2 chi_j,  d/d c4_j = 2/3 q^4 chi_j,
  *   d/d R_j = P D [(-2/R - 2/lambda) sin u + 2q cos u],  d/d c3_j = -4/3 q^3 P D cos u,
  *   d/d e0 = (dchi/dq)(dq/de0), dq/de0 = -0.2624683 / (2q),
- * where P = amp N |f| / (q R^2), D = the damping exponentials, u = the sine's argument.
+ * where P = s0sq N |f| / (q R^2), D = the damping exponentials, u = the sine's argument.
  */
 import { K2_PER_EV } from '../core/constants';
 import { InputError } from '../core/errors';
@@ -36,7 +36,7 @@ export interface PathParameters {
 
 export interface ModelParameters {
   /** S0^2. */
-  amp: number;
+  s0sq: number;
   /** E0 shift, eV. */
   e0: number;
   paths: PathParameters[];
@@ -49,7 +49,7 @@ export interface ModelPath {
 
 /** Derivative columns returned by {@link evaluateModel} when asked for them. */
 export interface ModelDerivatives {
-  amp: Float64Array;
+  s0sq: Float64Array;
   e0: Float64Array;
   /** Per path: d chi / d n, r, msrd, c3, c4. */
   paths: { n: Float64Array; r: Float64Array; msrd: Float64Array; c3: Float64Array; c4: Float64Array }[];
@@ -86,7 +86,7 @@ export function evaluateModel(
   const want = Boolean(options.withDerivatives);
   const derivatives: ModelDerivatives | undefined = want
     ? {
-        amp: new Float64Array(nk),
+        s0sq: new Float64Array(nk),
         e0: new Float64Array(nk),
         paths: tables.map(() => ({
           n: new Float64Array(nk), r: new Float64Array(nk), msrd: new Float64Array(nk), c3: new Float64Array(nk), c4: new Float64Array(nk),
@@ -104,7 +104,7 @@ export function evaluateModel(
   const amplitude = new Float64Array(2);
   const phase = new Float64Array(2);
   const lambda = new Float64Array(2);
-  const { amp } = params;
+  const { s0sq } = params;
   for (let j = 0; j < tables.length; j++) {
     const table = tables[j];
     const { x0, dx } = gridOf(table);
@@ -119,19 +119,19 @@ export function evaluateModel(
       cubicUniform(table.meanFreePath, x0, dx, qi, lambda);
       const q2 = qi * qi;
       const q3 = q2 * qi;
-      const base = (n * amplitude[0]) / (qi * r * r); // without amp
+      const base = (n * amplitude[0]) / (qi * r * r); // without s0sq
       const exponent = -2 * q2 * msrd + (2 / 3) * q2 * q2 * c4 - (2 * r) / lambda[0];
       const damp = Math.exp(exponent);
       const u = 2 * qi * r + phase[0] - (4 / 3) * q3 * c3;
       const s = Math.sin(u);
       const c = Math.cos(u);
-      const pd = amp * base * damp;
+      const pd = s0sq * base * damp;
       const value = pd * s;
       chi[i] += value;
       if (pathChi) pathChi[i] = value;
       if (derivatives && d) {
-        derivatives.amp[i] += base * damp * s;
-        d.n[i] = n !== 0 ? value / n : amp * (amplitude[0] / (qi * r * r)) * damp * s;
+        derivatives.s0sq[i] += base * damp * s;
+        d.n[i] = n !== 0 ? value / n : s0sq * (amplitude[0] / (qi * r * r)) * damp * s;
         d.r[i] = pd * ((-2 / r - 2 / lambda[0]) * s + 2 * qi * c);
         d.msrd[i] = -2 * q2 * value;
         d.c3[i] = -(4 / 3) * q3 * pd * c;

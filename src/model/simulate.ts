@@ -24,7 +24,7 @@ export interface SimulateSettings {
   kMin?: number;
   kMax?: number;
   kStep?: number;
-  amp?: number;
+  s0sq?: number;
   e0?: number;
   disorder: DisorderSpec;
   /** k-weight and window for |chi(R)|. */
@@ -67,7 +67,7 @@ export function simulateSpectrum(pathSet: PathSet, provider: ScatteringProvider,
   const k = uniformGrid(kMin, kMax, kStep);
   const kWeighting = settings.kWeighting ?? 2;
   const window: WindowSpec = settings.window ?? { shape: 'hann', min: 3, max: Math.min(14, kMax), taper: 1 };
-  const amp = settings.amp ?? 1;
+  const s0sq = settings.s0sq ?? 1;
   const e0 = settings.e0 ?? 0;
   const rMax = settings.rMax ?? null;
   const included = pathSet.paths.filter((p) => rMax === null || p.r <= rMax);
@@ -75,13 +75,13 @@ export function simulateSpectrum(pathSet: PathSet, provider: ScatteringProvider,
   const tables = tablesForPaths(pathSet, included, provider, kMax);
   const paths = included.map((p) => ({ ...p, msrd: pathMsrd(settings.disorder, pathSet.absorber, p) }));
   const params: ModelParameters = {
-    amp,
+    s0sq,
     e0,
     paths: paths.map((p) => ({ n: p.degeneracy, r: p.r, msrd: p.msrd, c3: 0, c4: 0 })),
   };
   const { chi, perPath } = evaluateModel(k, tables, params, { perPath: true });
   const transform = forwardTransform(k, chi, { kWeighting, window });
-  const used = { kMin, kMax, kStep, amp, e0, disorder: settings.disorder, kWeighting, window, rMax, provider: provider.name };
+  const used = { kMin, kMax, kStep, s0sq, e0, disorder: settings.disorder, kWeighting, window, rMax, provider: provider.name };
   return {
     k,
     chi,

@@ -1,7 +1,7 @@
 /**
  * Scoring one candidate, in either stage, the same way on the main thread and in a worker:
  * - 'prescreen': shells at their structure distances and degeneracies, sigma^2 from the phonon
- *   model plus static spread^2, only e0 and amp (and a mixture fraction) adjusted (./prescreen);
+ *   model plus static spread^2, only e0 and s0sq (and a mixture fraction) adjusted (./prescreen);
  * - 'refine': the ranking recipe (./recipe) refined by Levenberg-Marquardt with the fit
  *   module's problem builder and statistics (../fit/exafs).
  * A candidate that cannot be read or fitted gives a record with ok = false and the error
@@ -200,16 +200,16 @@ function evaluatePrescreen(ctx: EvaluationContext, components: ComponentShells[]
     };
   });
   if (parts.every((p) => p.paths.length === 0)) throw new InputError(`no shell lies within the model range (r0 <= ${s.window.rRange[1] + (s.recipe.pathMargin ?? 0.5)} Å)`);
-  const amp = s.recipe.amp ?? 'free';
+  const s0sq = s.recipe.s0sq ?? 'free';
   const result = prescreen(ctx.window, parts.filter((p) => p.paths.length > 0), {
-    amp, ampBounds: s.recipe.ampBounds ?? [0.5, 1.5], e0Range: s.prescreen.e0Range,
+    s0sq, s0sqBounds: s.recipe.s0sqBounds ?? [0.5, 1.5], e0Range: s.prescreen.e0Range,
   });
   const shells: ShellSummary[] = parts.flatMap((p, component) => p.paths.map((path, i) => ({
     id: path.id, species: path.scatterer, component, r0: path.r, degeneracy: path.degeneracy,
     n: path.degeneracy, r: { value: path.r, error: null, state: 'fixed' }, msrd: { value: round(p.msrd[i]), error: null, state: 'fixed' },
   })));
   const params: Record<string, { value: number; error: number; state: string }> = {
-    amp: { value: round(result.amp.value), error: round(result.amp.error), state: amp === 'free' ? 'free' : 'fixed' },
+    s0sq: { value: round(result.s0sq.value), error: round(result.s0sq.error), state: s0sq === 'free' ? 'free' : 'fixed' },
     e0: { value: round(result.e0.value), error: round(result.e0.error), state: 'free' },
   };
   if (result.fraction) params.fraction = { value: round(result.fraction.value), error: round(result.fraction.error), state: 'free' };

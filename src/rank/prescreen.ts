@@ -2,19 +2,19 @@
  * The fast pre-screen: one candidate's chi(k) simulated with every shell at its structure
  * distance and degeneracy and sigma^2 from a phonon model (correlated Debye or Einstein,
  * Sevillano, Meuth and Rehr, Phys. Rev. B 20, 4908 (1979)) plus the shell's static spread^2;
- * only e0 and amp (and, for a two-candidate mixture, the fraction) are adjusted.
+ * only e0 and s0sq (and, for a two-candidate mixture, the fraction) are adjusted.
  *
  * Speed comes from two exact reorganisations of the EXAFS equation:
  * - With e0 the only non-linear parameter, chi(k; e0) = chi_0(q), q = sqrt(k^2 - 0.2624683 e0),
  *   where chi_0 is the model at e0 = 0. chi_0 is evaluated once per candidate on a fine uniform
  *   q grid (step 0.01 1/Å) and interpolated (cubic Hermite) for each trial e0, so a trial costs
  *   one interpolation and one transform instead of a sum over all shells.
- * - amp (and the mixture weights) enter linearly: for a given e0 they follow from linear least
+ * - s0sq (and the mixture weights) enter linearly: for a given e0 they follow from linear least
  *   squares on the projected model columns P_c (normal equations; bounds by checking the
  *   boundary solutions, the active-set idea of Lawson and Hanson, Solving Least Squares Problems
  *   (1974), ch. 23). The remaining one-dimensional problem in e0 is solved by a coarse scan
  *   followed by golden-section search (Kiefer, Proc. Am. Math. Soc. 4, 502 (1953)).
- * Errors come from the Jacobian at the optimum (amp and fraction analytic, e0 by central
+ * Errors come from the Jacobian at the optimum (s0sq and fraction analytic, e0 by central
  * differences) and ../fit/statistics, exactly as for a refinement.
  */
 import { K2_PER_EV } from '../core/constants';
@@ -37,9 +37,9 @@ export interface PrescreenComponent {
 }
 
 export interface PrescreenOptions {
-  /** 'free' (within ampBounds) or a fixed S0^2. */
-  amp: number | 'free';
-  ampBounds: [number, number];
+  /** 'free' (within s0sqBounds) or a fixed S0^2. */
+  s0sq: number | 'free';
+  s0sqBounds: [number, number];
   /** Range searched for the E0 shift, eV. */
   e0Range: [number, number];
   /** Step of the coarse e0 scan, eV (default 2). */
@@ -49,7 +49,7 @@ export interface PrescreenOptions {
 export interface PrescreenResult {
   converged: boolean;
   message: string;
-  amp: ValueWithError;
+  s0sq: ValueWithError;
   e0: ValueWithError;
   /** Share of the first component (mixtures only). */
   fraction?: ValueWithError;
@@ -75,7 +75,7 @@ function prepareCurves(window: DataWindow, components: readonly PrescreenCompone
   const qGrid = new Float64Array(nq);
   for (let i = 0; i < nq; i++) qGrid[i] = i * Q_STEP;
   const q0 = components.map((c) => evaluateModel(qGrid, c.tables, {
-    amp: 1,
+    s0sq: 1,
     e0: 0,
     paths: c.paths.map((p, j) => ({ n: p.degeneracy, r: p.r, msrd: c.msrd[j], c3: 0, c4: 0 })),
   }).chi);
@@ -104,15 +104,15 @@ function dot(a: Float64Array, b: Float64Array): number {
 
 /**
  * Best linear coefficients (one per component) for fixed columns, with the constraints:
- * coefficients >= 0, their sum (= amp) fixed or inside the bounds.
+ * coefficients >= 0, their sum (= s0sq) fixed or inside the bounds.
  */
 function solveLinear(columns: Float64Array[], data: Float64Array, dd: number, options: PrescreenOptions): LinearSolution {
-  const [lo, hi] = options.ampBounds;
+  const [lo, hi] = options.s0sqBounds;
   if (columns.length === 1) {
     const pp = dot(columns[0], columns[0]);
     const pd = dot(columns[0], data);
-    let a = options.amp === 'free' ? (pp > 0 ? pd / pp : lo) : options.amp;
-    if (options.amp === 'free') a = Math.min(hi, Math.max(lo, a));
+    let a = options.s0sq === 'free' ? (pp > 0 ? pd / pp : lo) : options.s0sq;
+    if (options.s0sq === 'free') a = Math.min(hi, Math.max(lo, a));
     return { coefficients: [a], ssr: Math.max(0, a * a * pp - 2 * a * pd + dd) };
   }
   const [pa, pb] = columns;
@@ -126,7 +126,7 @@ function solveLinear(columns: Float64Array[], data: Float64Array, dd: number, op
     const f = da > 0 ? Math.min(1, Math.max(0, -num / da / total)) : 0.5;
     trials.push([total * f, total * (1 - f)]);
   };
-  if (options.amp === 'free') {
+  if (options.s0sq === 'free') {
     const det = aa * bb - ab * ab;
     if (det > 1e-300) {
       const a = (ad * bb - bd * ab) / det;
@@ -138,7 +138,7 @@ function solveLinear(columns: Float64Array[], data: Float64Array, dd: number, op
     sumFixed(lo);
     sumFixed(hi);
   } else {
-    sumFixed(options.amp);
+    sumFixed(options.s0sq);
   }
   let best: LinearSolution = { coefficients: trials[0], ssr: ssr(...trials[0]) };
   for (const t of trials.slice(1)) {
@@ -191,11 +191,11 @@ export function prescreen(window: DataWindow, components: readonly PrescreenComp
   let solution = objective(e0);
   if (bestSsr < solution.ssr) { e0 = scan[bestIndex]; solution = objective(e0); }
 
-  // residuals and Jacobian at the optimum, in the parameters (amp, e0, fraction)
+  // residuals and Jacobian at the optimum, in the parameters (s0sq, e0, fraction)
   columnsAt(window, curves, e0, columns, scratch, value);
   const coefficients = solution.coefficients;
-  const amp = coefficients.reduce((s, c) => s + c, 0);
-  const fraction = components.length === 2 ? (amp > 0 ? coefficients[0] / amp : 0.5) : 1;
+  const s0sq = coefficients.reduce((s, c) => s + c, 0);
+  const fraction = components.length === 2 ? (s0sq > 0 ? coefficients[0] / s0sq : 0.5) : 1;
   const residuals = new Float64Array(m);
   for (let i = 0; i < m; i++) {
     let v = -data[i];
@@ -210,13 +210,13 @@ export function prescreen(window: DataWindow, components: readonly PrescreenComp
   const names: string[] = [];
   const jacobianColumns: Float64Array[] = [];
   const atBound: ('lower' | 'upper' | null)[] = [];
-  const [lo, hi] = options.ampBounds;
-  if (options.amp === 'free') {
+  const [lo, hi] = options.s0sqBounds;
+  if (options.s0sq === 'free') {
     const col = new Float64Array(m);
     for (let i = 0; i < m; i++) col[i] = components.length === 2 ? fraction * columns[0][i] + (1 - fraction) * columns[1][i] : columns[0][i];
-    names.push('amp');
+    names.push('s0sq');
     jacobianColumns.push(col);
-    atBound.push(amp <= lo + 1e-9 ? 'lower' : amp >= hi - 1e-9 ? 'upper' : null);
+    atBound.push(s0sq <= lo + 1e-9 ? 'lower' : s0sq >= hi - 1e-9 ? 'upper' : null);
   }
   const de0 = new Float64Array(m);
   for (let i = 0; i < m; i++) {
@@ -229,7 +229,7 @@ export function prescreen(window: DataWindow, components: readonly PrescreenComp
   atBound.push(e0 <= e0Low + 1e-6 ? 'lower' : e0 >= e0High - 1e-6 ? 'upper' : null);
   if (components.length === 2) {
     const col = new Float64Array(m);
-    for (let i = 0; i < m; i++) col[i] = amp * (columns[0][i] - columns[1][i]);
+    for (let i = 0; i < m; i++) col[i] = s0sq * (columns[0][i] - columns[1][i]);
     names.push('fraction');
     jacobianColumns.push(col);
     atBound.push(fraction <= 1e-9 ? 'lower' : fraction >= 1 - 1e-9 ? 'upper' : null);
@@ -258,8 +258,8 @@ export function prescreen(window: DataWindow, components: readonly PrescreenComp
   const converged = Number.isFinite(solution.ssr) && Number.isFinite(e0);
   return {
     converged,
-    message: converged ? 'e0 found by scan and golden section; amp by linear least squares' : 'the pre-screen objective is not finite',
-    amp: { value: amp, error: errorOf('amp') },
+    message: converged ? 'e0 found by scan and golden section; s0sq by linear least squares' : 'the pre-screen objective is not finite',
+    s0sq: { value: s0sq, error: errorOf('s0sq') },
     e0: { value: e0, error: errorOf('e0') },
     fraction: components.length === 2 ? { value: fraction, error: errorOf('fraction') } : undefined,
     stats: {

@@ -17,8 +17,8 @@
  *     r_shell = r0_shell (1 + expansion),
  *   so the candidate's shape is kept and its size refined; 'fixed' keeps the structure distances
  *   (used when the hypotheses differ by strain, which an expansion would undo).
- * - e0 free; amp free within bounds, or fixed at a given value (needed when the hypotheses differ
- *   in coordination number, which a free amp absorbs for a single shell).
+ * - e0 free; s0sq free within bounds, or fixed at a given value (needed when the hypotheses differ
+ *   in coordination number, which a free s0sq absorbs for a single shell).
  * - A limit on the free parameters (default: half the independent points, rounded down): when the
  *   groups would exceed it, bands are widened (x1.5 at a time), then one msrd per species, then
  *   one msrd for all shells. The recipe's `description` says what happened.
@@ -41,10 +41,10 @@ export interface RankingRecipeOptions {
   pathMargin?: number;
   /** Width of a distance band sharing one msrd, Å (default 0.3). */
   bandWidth?: number;
-  /** 'free' (default, bounded by ampBounds) or a fixed S0^2. */
-  amp?: number | 'free';
-  /** Bounds of a free amp (default [0.5, 1.5]). */
-  ampBounds?: [number, number];
+  /** 'free' (default, bounded by s0sqBounds) or a fixed S0^2. */
+  s0sq?: number | 'free';
+  /** Bounds of a free s0sq (default [0.5, 1.5]). */
+  s0sqBounds?: [number, number];
   /** 'expand' (default): one global expansion factor; 'fixed': structure distances. */
   distances?: 'expand' | 'fixed';
   /** Largest number of free parameters (default floor(N_ind / 2)). */
@@ -128,8 +128,8 @@ export function rankingRecipe(components: readonly RecipeComponent[], options: R
   if (components.length === 0 || components.length > 2) throw new InputError(`a candidate has one or two components, got ${components.length}`);
   const margin = options.pathMargin ?? 0.5;
   const bandWidth = options.bandWidth ?? 0.3;
-  const amp = options.amp ?? 'free';
-  const [ampLow, ampHigh] = options.ampBounds ?? [0.5, 1.5];
+  const s0sq = options.s0sq ?? 'free';
+  const [s0sqLow, s0sqHigh] = options.s0sqBounds ?? [0.5, 1.5];
   const distances = options.distances ?? 'expand';
   const [kMin, kMax] = options.kRange;
   const [rMin, rMax] = options.rRange;
@@ -151,7 +151,7 @@ export function rankingRecipe(components: readonly RecipeComponent[], options: R
     throw new InputError(`no shell lies within ${limit.toFixed(2)} Å of the absorber (R range ends at ${rMax} Å, margin ${margin} Å)`, { key: '--r' });
   }
   const isMixture = components.length === 2;
-  const fixedCount = (amp === 'free' ? 1 : 0) + 1 + (distances === 'expand' ? 1 : 0) + (isMixture ? 1 : 0);
+  const fixedCount = (s0sq === 'free' ? 1 : 0) + 1 + (distances === 'expand' ? 1 : 0) + (isMixture ? 1 : 0);
 
   // choose the grouping: bands, wider bands, per species, one for all
   const attempts: Grouping[] = [];
@@ -169,11 +169,11 @@ export function rankingRecipe(components: readonly RecipeComponent[], options: R
   if (nFree > maxFree) {
     throw new InputError(
       `the window k ${kMin}-${kMax} 1/Å, R ${rMin}-${rMax} Å has ${nIndependent.toFixed(1)} independent points: too few for ${nFree} free parameters `
-      + `(limit ${maxFree}); widen the window or fix amp`, { key: '--r' });
+      + `(limit ${maxFree}); widen the window or fix s0sq`, { key: '--r' });
   }
 
   const parameters: ParameterSpec[] = [
-    amp === 'free' ? { name: 'amp', value: Math.min(Math.max(0.9, ampLow), ampHigh), lower: ampLow, upper: ampHigh } : { name: 'amp', value: amp, state: 'fixed' },
+    s0sq === 'free' ? { name: 's0sq', value: Math.min(Math.max(0.9, s0sqLow), s0sqHigh), lower: s0sqLow, upper: s0sqHigh } : { name: 's0sq', value: s0sq, state: 'fixed' },
     { name: 'e0', value: 0, lower: -20, upper: 20 },
   ];
   if (distances === 'expand') parameters.push({ name: 'expansion', value: 0, lower: -0.1, upper: 0.1 });
@@ -198,7 +198,7 @@ export function rankingRecipe(components: readonly RecipeComponent[], options: R
     groupText + '; each shell adds its static spread^2',
     'n fixed at the structure\'s degeneracies' + (isMixture ? ' times the component fraction' : ''),
     distances === 'expand' ? 'distances scaled by one free expansion factor' : 'distances fixed at the structure\'s',
-    `e0 free; amp ${amp === 'free' ? `free in [${ampLow}, ${ampHigh}]` : `fixed at ${amp}`}`,
+    `e0 free; s0sq ${s0sq === 'free' ? `free in [${s0sqLow}, ${s0sqHigh}]` : `fixed at ${s0sq}`}`,
     `${nFree} free parameters for ${nIndependent.toFixed(1)} independent points (limit ${maxFree})`,
   ];
   return { parameters, paths, componentOf, rules, groupOf: labels.map((l) => `msrd_${l}`), description, nFree, nIndependent };

@@ -9,7 +9,7 @@
  *   the second and third shells of close-packed structures, which tell fcc from bcc and hcp and
  *   zinc blende from rock salt, are inside the window (common practice, no source);
  * - shells: cluster radius rMax + pathMargin + 0.5 Å, shell width 0.01 Å;
- * - recipe: ./recipe defaults (bands of 0.3 Å, amp free in [0.5, 1.5], one expansion factor);
+ * - recipe: ./recipe defaults (bands of 0.3 Å, s0sq free in [0.5, 1.5], one expansion factor);
  * - pre-screen: correlated Debye sigma^2 with a Debye temperature of 300 K at 300 K (an
  *   order-of-magnitude choice for metals and simple compounds near room temperature, common
  *   practice, no source; give --debye-temp or --einstein-temp for the sample), e0 searched in
@@ -47,8 +47,8 @@ export interface RankOptions {
   rTaper?: { shape: WindowShape; taper: number };
   pathMargin?: number;
   bandWidth?: number;
-  amp?: number | 'free';
-  ampBounds?: [number, number];
+  s0sq?: number | 'free';
+  s0sqBounds?: [number, number];
   distances?: 'expand' | 'fixed';
   maxFree?: number;
   disorder?: PrescreenDisorder;
@@ -102,8 +102,8 @@ export function resolveSettings(options: RankOptions, chi: Chi, _candidateCount?
     recipe: {
       pathMargin,
       bandWidth: options.bandWidth ?? 0.3,
-      amp: options.amp ?? 'free',
-      ampBounds: options.ampBounds ?? [0.5, 1.5],
+      s0sq: options.s0sq ?? 'free',
+      s0sqBounds: options.s0sqBounds ?? [0.5, 1.5],
       distances: options.distances ?? 'expand',
       ...(options.maxFree !== undefined ? { maxFree: options.maxFree } : {}),
     },

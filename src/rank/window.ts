@@ -52,7 +52,7 @@ export interface DataWindow {
 /** Compile the window (validates the ranges against the data once). */
 export function compileWindow(measured: MeasuredChi, settings: WindowSettings): DataWindow {
   const problem = buildExafsProblem(
-    [{ name: 'amp', value: 1, state: 'fixed' }, { name: 'e0', value: 0, state: 'fixed' }],
+    [{ name: 's0sq', value: 1, state: 'fixed' }, { name: 'e0', value: 0, state: 'fixed' }],
     [{
       name: measured.name, k: measured.k, chi: measured.chi, noiseChi: measured.noiseChi, paths: [], tables: [], rules: [],
       kRange: settings.kRange, kWeightings: settings.kWeightings, kTaper: settings.kTaper, rRange: settings.rRange, rTaper: settings.rTaper, space: settings.space,

@@ -376,7 +376,7 @@ export function rankingTable(candidates: readonly CandidateView[], caption = 'Ra
 
 /** Units and symbols of the fit parameters, in text and LaTeX. */
 const PARAMETER_INFO: Record<string, { text: string; latex: string; unit: string; unitLatex: string }> = {
-  amp: { text: 'amp (S0²)', latex: 'amp ($S_0^2$)', unit: '', unitLatex: '' },
+  s0sq: { text: 's0sq (S0²)', latex: 's0sq ($S_0^2$)', unit: '', unitLatex: '' },
   e0: { text: 'e0 (ΔE0)', latex: 'e0 ($\\Delta E_0$)', unit: 'eV', unitLatex: 'eV' },
   n: { text: 'n', latex: '$N$', unit: '', unitLatex: '' },
   r: { text: 'r', latex: '$R$', unit: 'Å', unitLatex: '\\AA{}' },
@@ -400,7 +400,7 @@ function parameterRow(name: string, shell: string, v: ValueWithError): TableCell
 }
 
 /**
- * One fit's parameter table: global parameters (amp, e0, any others), then per shell n, r, msrd
+ * One fit's parameter table: global parameters (s0sq, e0, any others), then per shell n, r, msrd
  * and c3/c4 when present. Values with errors in both notations; CSV columns carry the full-precision
  * value and error.
  */
@@ -428,7 +428,7 @@ export function fitParameterTable(candidate: CandidateView, caption = `Fitted pa
 }
 
 function order(name: string): number {
-  return name === 'amp' ? 0 : name === 'e0' ? 1 : 2;
+  return name === 's0sq' ? 0 : name === 'e0' ? 1 : 2;
 }
 
 /** One fit's statistics as a two-column table (statistic, value). */

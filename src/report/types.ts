@@ -6,7 +6,7 @@
  *
  *     fit:  { "stats": { "rFactor", "chiSquare", "reducedChiSquare", "nIndependent", "nVaried",
  *                        "aic", "bic" },
- *             "params": { "amp": { "value", "error", "state" }, "e0": { ... } },
+ *             "params": { "s0sq": { "value", "error", "state" }, "e0": { ... } },
  *             "shells": [ { "species", "n", "r": { "value", "error" }, "msrd": { "value", "error" } } ],
  *             "correlations": [ ... ], "status": { ... }, "provenance": { ... } }
  *     rank: { "candidates": [ { "name", "file", "rank", "verdict", "stats": { ...as in fit... },

@@ -122,14 +122,14 @@ export function simulationMsrd(r: number): number {
 }
 
 /**
- * chi(k) (k 0-16 1/Å, step 0.05) of one structure with amp 0.9 and e0 2 eV, plus seeded white
+ * chi(k) (k 0-16 1/Å, step 0.05) of one structure with s0sq 0.9 and e0 2 eV, plus seeded white
  * noise of rms `noise`, as a Chi with the noise estimated from the high-R transform.
  */
 export function syntheticChi(structure: Structure, seed: number, noise: number): Chi {
   const set = shellsOfStructure(structure, { absorber: { index: 0 }, radius: 4.6 });
   const tables = tablesForPaths(set, set.paths, parametricProvider, 17);
   const k = Float64Array.from({ length: 321 }, (_, i) => i * 0.05);
-  const clean = evaluateModel(k, tables, { amp: 0.9, e0: 2, paths: set.paths.map((p) => ({ n: p.degeneracy, r: p.r, msrd: simulationMsrd(p.r), c3: 0, c4: 0 })) }).chi;
+  const clean = evaluateModel(k, tables, { s0sq: 0.9, e0: 2, paths: set.paths.map((p) => ({ n: p.degeneracy, r: p.r, msrd: simulationMsrd(p.r), c3: 0, c4: 0 })) }).chi;
   const random = seededRandom(seed);
   const chi = Float64Array.from(clean, (v) => v + noise * random.normal());
   return makeChi({ k, chi, e0: 7112, edgeStep: 1, noise: estimateNoise(k, chi, DEFAULT_NOISE) });

@@ -38,14 +38,14 @@ export function fabricatedFit(name: string, shift: number, options: { seed?: num
     file: `${name}.xyz`,
     stats: { rFactor: r, chiSquare: 800 * r, reducedChiSquare: 60 * r, nIndependent: 15.2, nVaried: 5, aic: 10 + 200 * r, bic: 14 + 200 * r },
     params: {
-      amp: { value: 0.9, error: 0, state: 'fixed' },
+      s0sq: { value: 0.9, error: 0, state: 'fixed' },
       e0: { value: 2.31 + shift, error: 0.74, state: 'free' },
     },
     shells: [
       { species: 'O', n: 4, r: { value: 1.9512 + shift, error: 0.0123 }, msrd: { value: 0.00412, error: 0.00081 }, label: 'O 1' },
       { species: 'Zn', n: { value: 12, error: null, state: 'fixed' }, r: { value: 3.1049 + shift, error: 0.0361 }, msrd: { value: 0.0083, error: 0.0021 }, label: 'Zn 2' },
     ],
-    correlations: [{ a: 'e0', b: 'r.O 1', value: 0.83 }, { a: 'amp', b: 'msrd.O 1', value: 0.12 }],
+    correlations: [{ a: 'e0', b: 'r.O 1', value: 0.83 }, { a: 's0sq', b: 'msrd.O 1', value: 0.12 }],
     status: { converged: true, iterations: 12, reason: 'relative change below tolerance' },
     warnings: shift > 0.05 ? ['msrd of shell Zn 2 is at its upper bound'] : [],
     curves: {

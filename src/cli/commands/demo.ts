@@ -37,7 +37,7 @@ export function registerDemo(program: Command, io: CliIo): void {
           // S0^2 fixed, as if calibrated on a reference compound: the candidates differ in
           // coordination number, which a free S0^2 would absorb
           title: 'rank the candidates',
-          args: ['rank', out('chi.json'), structures, '--absorber', '#0', '--tolerance', '0.02', '--amp', '0.85',
+          args: ['rank', out('chi.json'), structures, '--absorber', '#0', '--tolerance', '0.02', '--s0sq', '0.85',
             '--mixture', `${octahedral},${nio}`, '--out', out('ranking'), '--quiet'],
         },
         { title: 'write the report', args: ['report', out('ranking/ranking.json'), '--out', out('.')] },

@@ -22,8 +22,8 @@ export interface FitCliOptions extends StructureCliOptions {
   r: string;
   kw: string;
   space: string;
-  amp: string;
-  ampFrom?: string;
+  s0sq: string;
+  s0sqFrom?: string;
   starts: string;
   maxIterations: string;
   provider: string;
@@ -40,8 +40,8 @@ export function addFitOptions(command: Command): Command {
     .option('--r <min:max>', 'R range of the fit, Å', `${DEFAULT_FIT_SETTINGS.rRange[0]}:${DEFAULT_FIT_SETTINGS.rRange[1]}`)
     .option('--kw <weights>', 'k-weight, or several separated by commas (e.g. 1,2,3)', '2')
     .option('--space <space>', `fit space: ${FIT_DOMAINS.join(', ')}`, DEFAULT_FIT_SETTINGS.space)
-    .option('--amp <value>', "S0^2: a fixed value, or 'free'", String(DEFAULT_FIT_SETTINGS.amp))
-    .option('--amp-from <fit.json>', 'fix S0^2 at the value of an earlier fit of a reference compound')
+    .option('--s0sq <value>', "S0^2: a fixed value, or 'free'", String(DEFAULT_FIT_SETTINGS.s0sq))
+    .option('--s0sq-from <fit.json>', 'fix S0^2 at the value of an earlier fit of a reference compound')
     .option('--starts <n>', 'number of starts (more than 1 adds seeded random starts)', '1')
     .option('--max-iterations <n>', 'most Levenberg-Marquardt iterations per fit', '200')
     .option('--provider <name>', 'scattering provider', DEFAULT_PROVIDER)
@@ -55,19 +55,19 @@ export function reductionWarnings(data: LoadedChi): string[] {
 }
 
 /** S0^2 from an earlier fit document; refused when that fit did not converge (its S0^2 calibrates nothing). */
-export function ampFromFit(path: string): number {
+export function s0sqFromFit(path: string): number {
   const text = readTextFile(path);
-  let doc: { params?: { amp?: { value?: unknown } }; status?: { converged?: unknown; message?: unknown } };
+  let doc: { params?: { s0sq?: { value?: unknown } }; status?: { converged?: unknown; message?: unknown } };
   try {
     doc = JSON.parse(text);
   } catch {
-    throw new InputError('is not a JSON fit result', { file: path, key: '--amp-from' });
+    throw new InputError('is not a JSON fit result', { file: path, key: '--s0sq-from' });
   }
-  const value = doc?.params?.amp?.value;
-  if (typeof value !== 'number' || !Number.isFinite(value)) throw new InputError('has no params.amp.value (is it a shellrank fit result?)', { file: path, key: '--amp-from' });
+  const value = doc?.params?.s0sq?.value;
+  if (typeof value !== 'number' || !Number.isFinite(value)) throw new InputError('has no params.s0sq.value (is it a shellrank fit result?)', { file: path, key: '--s0sq-from' });
   if (doc.status?.converged === false) {
     const why = typeof doc.status.message === 'string' ? ` (${doc.status.message})` : '';
-    throw new InputError(`the reference fit did not converge${why}; refit the reference before taking S0^2 from it`, { file: path, key: '--amp-from' });
+    throw new InputError(`the reference fit did not converge${why}; refit the reference before taking S0^2 from it`, { file: path, key: '--s0sq-from' });
   }
   return value;
 }
@@ -75,16 +75,16 @@ export function ampFromFit(path: string): number {
 export function parseFitOptions(raw: FitCliOptions): StructureFitSettings {
   if (!(FIT_DOMAINS as readonly string[]).includes(raw.space)) throw new InputError(`unknown fit space '${raw.space}' (expected ${FIT_DOMAINS.join(', ')})`, { key: '--space' });
   const kWeightings = raw.kw.split(',').map((w) => parseNumber('--kw', w, { min: 0, max: 4 }));
-  let amp: number | 'free';
-  if (raw.ampFrom !== undefined) amp = ampFromFit(raw.ampFrom);
-  else amp = raw.amp === 'free' ? 'free' : parseNumber('--amp', raw.amp, { min: 0, exclusiveMin: true });
+  let s0sq: number | 'free';
+  if (raw.s0sqFrom !== undefined) s0sq = s0sqFromFit(raw.s0sqFrom);
+  else s0sq = raw.s0sq === 'free' ? 'free' : parseNumber('--s0sq', raw.s0sq, { min: 0, exclusiveMin: true });
   return {
     ...DEFAULT_FIT_SETTINGS,
     kRange: parseRange('--k', raw.k),
     rRange: parseRange('--r', raw.r),
     kWeightings,
     space: raw.space as FitDomain,
-    amp,
+    s0sq,
     starts: parseInteger('--starts', raw.starts, 1),
     maxIterations: parseInteger('--max-iterations', raw.maxIterations, 1),
   };
@@ -122,7 +122,7 @@ export function registerFit(program: Command, io: CliIo): void {
         const lines = [
           `fit of ${structureFile} to ${dataFile} (${set.absorber} ${set.edge} edge, ${settings.space} space, k ${settings.kRange.join('-')} 1/Å, R ${settings.rRange.join('-')} Å, k-weight ${settings.kWeightings.join(',')})`,
           data.reducedHere ? `data reduced here with default settings: E0 = ${data.chi.e0.toFixed(2)} eV, edge step ${data.chi.edgeStep.toPrecision(4)}` : 'data: saved reduction',
-          ...fitResultLines(result, { showParameter: (n) => n === 'amp' || n === 'e0', recipe: result.recipe }),
+          ...fitResultLines(result, { showParameter: (n) => n === 's0sq' || n === 'e0', recipe: result.recipe }),
         ];
         emit(io, lines.join('\n') + '\n', raw.out, [dataFile, structureFile]);
       }

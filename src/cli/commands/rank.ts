@@ -26,7 +26,7 @@ import { prepareRanking, type PreparedRanking, type RankOptions } from '../../ra
 import type { RankingOptions } from '../../rank/verdicts';
 import type { CliIo } from '../io';
 import { parseInteger, parseNumber, parseRange } from '../options';
-import { ampFromFit, reductionWarnings } from './fit';
+import { s0sqFromFit, reductionWarnings } from './fit';
 import { parseEdgeOption } from './structure-options';
 
 /** Raw option values shared by rank and screen (commander's camel-case names). */
@@ -45,9 +45,9 @@ export interface RankCliOptions {
   rTaper: string;
   margin: string;
   band: string;
-  amp?: string;
-  ampFrom?: string;
-  ampBounds: string;
+  s0sq?: string;
+  s0sqFrom?: string;
+  s0sqBounds: string;
   distances?: string;
   maxFree?: string;
   debyeTemp?: string;
@@ -93,9 +93,9 @@ export function addRankOptions(command: Command): Command {
     .option('--r-taper <width>', 'R window taper, Å', '0.5')
     .option('--margin <angstrom>', 'include shells up to R max + this', '0.5')
     .option('--band <angstrom>', 'shells of one species within this of a group\'s nearest shell share one msrd', '0.3')
-    .option('--amp <value>', "S0^2: 'free' (within --amp-bounds) or a fixed value (default free)")
-    .option('--amp-from <fit.json>', 'fix S0^2 at the value of an earlier fit of a reference compound')
-    .option('--amp-bounds <min:max>', 'bounds of a free S0^2', '0.5:1.5')
+    .option('--s0sq <value>', "S0^2: 'free' (within --s0sq-bounds) or a fixed value (default free)")
+    .option('--s0sq-from <fit.json>', 'fix S0^2 at the value of an earlier fit of a reference compound')
+    .option('--s0sq-bounds <min:max>', 'bounds of a free S0^2', '0.5:1.5')
     .option('--distances <how>', "'expand' (one free expansion factor) or 'fixed' (structure distances)")
     .option('--max-free <n>', 'most free parameters of a refinement (default: half the independent points)')
     .option('--debye-temp <kelvin>', 'pre-screen sigma^2 from the correlated Debye model with this Debye temperature (default 300)')
@@ -146,10 +146,10 @@ export function parseRankOptions(raw: RankCliOptions, io: CliIo): { options: Ran
   if (raw.einsteinTemp !== undefined) disorder = { kind: 'einstein', einsteinTemperature: parseNumber('--einstein-temp', raw.einsteinTemp, { min: 0, exclusiveMin: true }), temperature };
   else if (raw.msrd !== undefined) disorder = { kind: 'fixed', msrd: parseNumber('--msrd', raw.msrd, { min: 0 }) };
   else disorder = { kind: 'debye', debyeTemperature: parseNumber('--debye-temp', raw.debyeTemp ?? '300', { min: 0, exclusiveMin: true }), temperature };
-  if (raw.amp !== undefined && raw.ampFrom !== undefined) throw new InputError('give --amp or --amp-from, not both', { key: '--amp' });
-  let amp: number | 'free' = 'free';
-  if (raw.ampFrom !== undefined) amp = ampFromFit(resolve(io.cwd, raw.ampFrom));
-  else if (raw.amp !== undefined && raw.amp !== 'free') amp = parseNumber('--amp', raw.amp, { min: 0, exclusiveMin: true });
+  if (raw.s0sq !== undefined && raw.s0sqFrom !== undefined) throw new InputError('give --s0sq or --s0sq-from, not both', { key: '--s0sq' });
+  let s0sq: number | 'free' = 'free';
+  if (raw.s0sqFrom !== undefined) s0sq = s0sqFromFit(resolve(io.cwd, raw.s0sqFrom));
+  else if (raw.s0sq !== undefined && raw.s0sq !== 'free') s0sq = parseNumber('--s0sq', raw.s0sq, { min: 0, exclusiveMin: true });
   if (raw.distances !== undefined && raw.distances !== 'expand' && raw.distances !== 'fixed') throw new InputError(`expected 'expand' or 'fixed', got '${raw.distances}'`, { key: '--distances' });
   if (!['auto', 'own', 'shared'].includes(raw.tables)) throw new InputError(`expected 'auto', 'own' or 'shared', got '${raw.tables}'`, { key: '--tables' });
   const kWeightings = raw.kw.split(',').map((w) => parseNumber('--kw', w, { min: 0, max: 4 }));
@@ -164,8 +164,8 @@ export function parseRankOptions(raw: RankCliOptions, io: CliIo): { options: Ran
     rTaper: { shape, taper: parseNumber('--r-taper', raw.rTaper, { min: 0 }) },
     pathMargin: parseNumber('--margin', raw.margin, { min: 0 }),
     bandWidth: parseNumber('--band', raw.band, { min: 0 }),
-    amp,
-    ampBounds: parseRange('--amp-bounds', raw.ampBounds),
+    s0sq,
+    s0sqBounds: parseRange('--s0sq-bounds', raw.s0sqBounds),
     disorder,
     e0Range: parseRange('--e0-range', raw.e0Range),
     starts: parseInteger('--starts', raw.starts, 1),

@@ -41,9 +41,9 @@ export function registerScreen(program: Command, io: CliIo): void {
         notes.push('strain is varied: the refinement keeps every hypothesis\'s distances (no expansion factor); give --distances expand to override');
       }
       // removed neighbours would be absorbed by a free S0^2 for a single shell: fix it
-      if (dimensions.some((d) => d.kind === 'remove') && raw.amp === undefined && raw.ampFrom === undefined) {
-        parsed.options.amp = 0.9;
-        notes.push('coordination numbers are varied: S0^2 is fixed at 0.9 (common practice; give --amp VALUE or --amp-from FIT.json for your sample)');
+      if (dimensions.some((d) => d.kind === 'remove') && raw.s0sq === undefined && raw.s0sqFrom === undefined) {
+        parsed.options.s0sq = 0.9;
+        notes.push('coordination numbers are varied: S0^2 is fixed at 0.9 (common practice; give --s0sq VALUE or --s0sq-from FIT.json for your sample)');
       }
       const data = loadChiOrReduce(resolve(io.cwd, dataFile));
       const options = withDataAbsorber(parsed.options, data.chi, dataFile);

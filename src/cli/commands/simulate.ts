@@ -18,7 +18,7 @@ interface SimulateCliOptions extends StructureCliOptions {
   debyeTemp?: string;
   einsteinTemp?: string;
   temp: string;
-  amp: string;
+  s0sq: string;
   e0: string;
   kw: string;
   k: string;
@@ -103,7 +103,7 @@ export function registerSimulate(program: Command, io: CliIo): void {
     .option('--debye-temp <kelvin>', 'use the correlated Debye model with this Debye temperature')
     .option('--einstein-temp <kelvin>', 'use the Einstein model with this Einstein temperature')
     .option('--temp <kelvin>', 'sample temperature for --debye-temp / --einstein-temp', '300')
-    .option('--amp <value>', 'amplitude reduction factor S0^2', '1')
+    .option('--s0sq <value>', 'amplitude reduction factor S0^2', '1')
     .option('--e0 <ev>', 'E0 shift in eV', '0')
     .option('--rmax <angstrom>', 'include only shells up to this distance')
     .option('--kw <weight>', 'k-weight of the Fourier transform', '2')
@@ -127,7 +127,7 @@ export function registerSimulate(program: Command, io: CliIo): void {
       const set = shellsOfStructure(structure, { absorber: o.absorber, radius: o.radius, tolerance: o.tolerance, edge: o.edge, structureHash: loaded.sha256 });
       const sim = simulateSpectrum(set, provider, {
         disorder: parseDisorder(raw, structure, set),
-        amp: parseNumber('--amp', raw.amp, { min: 0 }),
+        s0sq: parseNumber('--s0sq', raw.s0sq, { min: 0 }),
         e0: parseNumber('--e0', raw.e0),
         kWeighting: parseNumber('--kw', raw.kw, { min: 0, max: 4 }),
         window: { shape: raw.window as WindowShape, min: wmin, max: wmax, taper: parseNumber('--taper', raw.taper, { min: 0 }) },

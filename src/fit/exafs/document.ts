@@ -1,7 +1,7 @@
 /**
  * The JSON document of a fit (the `fit --json` output, documented in the README):
  *   { "stats": {rFactor, chiSquare, reducedChiSquare, nIndependent, nVaried, nPoints, degreesOfFreedom, aic, bic},
- *     "params": {"amp": {value, error, state}, "e0": {...}, ...every user parameter},
+ *     "params": {"s0sq": {value, error, state}, "e0": {...}, ...every user parameter},
  *     "shells": [{species, id, n, r: {value, error}, r0, msrd: {value, error}, c3, c4}],
  *     "correlations": [{a, b, value}], "warnings": [...], "recipe": [...],
  *     "plausibility": [{code, parameter?, dataset?, shell?, value, limit?, message}] (./plausibility.ts),

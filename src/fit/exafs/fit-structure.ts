@@ -18,7 +18,7 @@ export interface StructureFitSettings {
   rRange: [number, number];
   kWeightings: number[];
   space: FitDomain;
-  amp: number | 'free';
+  s0sq: number | 'free';
   kTaper: { shape: WindowShape; taper: number };
   rTaper: { shape: WindowShape; taper: number };
   pathMargin: number;
@@ -31,7 +31,7 @@ export const DEFAULT_FIT_SETTINGS: StructureFitSettings = {
   rRange: [1, 3.2],
   kWeightings: [2],
   space: 'r',
-  amp: 0.9,
+  s0sq: 0.9,
   kTaper: { shape: 'hann', taper: 1 },
   rTaper: { shape: 'hann', taper: 0.5 },
   pathMargin: 0.5,
@@ -47,7 +47,7 @@ export interface StructureFitResult extends ExafsFitResult {
 export function fitStructure(chi: Chi, pathSet: PathSet, provider: ScatteringProvider, settings: Partial<StructureFitSettings> = {}, inputs: InputRecord[] = [], name = 'data'): StructureFitResult {
   const s: StructureFitSettings = { ...DEFAULT_FIT_SETTINGS, ...settings };
   checkEdgeMatches(chi, pathSet, name);
-  const recipe = defaultRecipe(pathSet, { rMax: s.rRange[1], pathMargin: s.pathMargin, amp: s.amp });
+  const recipe = defaultRecipe(pathSet, { rMax: s.rRange[1], pathMargin: s.pathMargin, s0sq: s.s0sq });
   const tables = tablesForPaths(pathSet, recipe.paths, provider, s.kRange[1] + s.kTaper.taper);
   const problem = buildExafsProblem(recipe.parameters, [{
     name, k: chi.k, chi: chi.chi, noiseChi: chi.noise.k, paths: recipe.paths, tables, rules: recipe.rules,

@@ -52,7 +52,7 @@ export interface PlausibilityInput {
   params: Record<string, { value: number; state: string; lower?: number; upper?: number }>;
   shells: readonly { dataset: string; id: string; r0: number; r: { value: number }; msrd: { value: number } }[];
   /** Per data set: its name and the values (and expressions) of S0^2 and e0. */
-  datasets: readonly { name: string; amp: number; e0: number; ampExpression?: string; e0Expression?: string }[];
+  datasets: readonly { name: string; s0sq: number; e0: number; s0sqExpression?: string; e0Expression?: string }[];
 }
 
 /** All plausibility warnings of one fit, in the order: convergence, data sets, shells, bounds. */
@@ -64,11 +64,11 @@ export function plausibilityWarnings(input: PlausibilityInput): PlausibilityWarn
   const several = input.datasets.length > 1;
   const inSet = (name: string) => (several ? ` in data set ${name}` : '');
   for (const d of input.datasets) {
-    const ampName = d.ampExpression ?? 'amp';
-    if (d.amp < MIN_S0SQ || d.amp > MAX_S0SQ) {
+    const s0sqName = d.s0sqExpression ?? 's0sq';
+    if (d.s0sq < MIN_S0SQ || d.s0sq > MAX_S0SQ) {
       out.push({
-        code: 's0sq-range', parameter: ampName, ...(several ? { dataset: d.name } : {}), value: d.amp, limit: d.amp < MIN_S0SQ ? MIN_S0SQ : MAX_S0SQ,
-        message: `S0^2 (${ampName}) = ${d.amp.toFixed(3)}${inSet(d.name)} is outside ${MIN_S0SQ}-${MAX_S0SQ}: check the coordination numbers, the normalisation or the structure`,
+        code: 's0sq-range', parameter: s0sqName, ...(several ? { dataset: d.name } : {}), value: d.s0sq, limit: d.s0sq < MIN_S0SQ ? MIN_S0SQ : MAX_S0SQ,
+        message: `S0^2 (${s0sqName}) = ${d.s0sq.toFixed(3)}${inSet(d.name)} is outside ${MIN_S0SQ}-${MAX_S0SQ}: check the coordination numbers, the normalisation or the structure`,
       });
     }
     const e0Name = d.e0Expression ?? 'e0';

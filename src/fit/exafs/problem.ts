@@ -1,7 +1,7 @@
 /**
  * EXAFS refinement: one or more measured chi(k) data sets, each with its scattering paths and
  * their tables, a set of named parameters (free, fixed, tied) and path rules that say how every
- * path's n, r, msrd, c3, c4 (and each data set's amp and e0) follow from the parameters.
+ * path's n, r, msrd, c3, c4 (and each data set's s0sq and e0) follow from the parameters.
  *
  * Residuals, per data set and k-weight w, divided by the measurement noise of that space so
  * several data sets and weights combine fairly:
@@ -48,8 +48,8 @@ export interface FitDataset {
   paths: readonly ScatteringPath[];
   tables: readonly ScatteringTable[];
   rules: readonly PathRule[];
-  /** Expressions for S0^2 and the E0 shift of this data set (default 'amp' and 'e0'). */
-  amp?: string;
+  /** Expressions for S0^2 and the E0 shift of this data set (default 's0sq' and 'e0'). */
+  s0sq?: string;
   e0?: string;
   kRange: [number, number];
   kWeightings: readonly number[];
@@ -83,8 +83,8 @@ export interface ExafsProblem {
 
 export interface CompiledDataset {
   spec: FitDataset;
-  /** Index into parameters.names of amp, e0 and of each path's n, r, msrd, c3, c4. */
-  ampIndex: number;
+  /** Index into parameters.names of s0sq, e0 and of each path's n, r, msrd, c3, c4. */
+  s0sqIndex: number;
   e0Index: number;
   pathIndices: Int32Array; // 5 per path
   /** Model grid: data grid points up to the end of the k window support. */
@@ -149,13 +149,13 @@ export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets
     specs.push({ name, expression, state: 'tied' });
     return name;
   };
-  const layout: { amp: string; e0: string; paths: string[] }[] = datasets.map((d, di) => {
+  const layout: { s0sq: string; e0: string; paths: string[] }[] = datasets.map((d, di) => {
     if (d.paths.length !== d.tables.length || d.paths.length !== d.rules.length) {
       throw new InputError(`data set ${d.name}: ${d.paths.length} paths, ${d.tables.length} tables and ${d.rules.length} path rules must match`);
     }
     if (d.kWeightings.length === 0) throw new InputError('at least one k-weight is needed', { key: '--kw' });
     return {
-      amp: internal(`_d${di}_amp`, d.amp ?? 'amp'),
+      s0sq: internal(`_d${di}_s0sq`, d.s0sq ?? 's0sq'),
       e0: internal(`_d${di}_e0`, d.e0 ?? 'e0'),
       paths: d.rules.flatMap((rule, pi) => QUANTITIES.map((q) => internal(`_d${di}_p${pi}_${q}`, rule[q]))),
     };
@@ -201,7 +201,7 @@ export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets
     nInd += ind;
     const pathIndices = Int32Array.from(layout[di].paths.map((n) => set.indexOf(n)));
     compiled.push({
-      spec, ampIndex: set.indexOf(layout[di].amp), e0Index: set.indexOf(layout[di].e0), pathIndices,
+      spec, s0sqIndex: set.indexOf(layout[di].s0sq), e0Index: set.indexOf(layout[di].e0), pathIndices,
       modelK, kTaper, rTaper, windowK, noise, kInside, rInside, offset, length, nIndependent: ind,
     });
     offset += length;
@@ -211,7 +211,7 @@ export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets
   const nAll = set.names.length;
 
   const paramsFor = (values: Float64Array, d: CompiledDataset): ModelParameters => ({
-    amp: values[d.ampIndex],
+    s0sq: values[d.s0sqIndex],
     e0: values[d.e0Index],
     paths: d.spec.paths.map((_, pi) => ({
       n: values[d.pathIndices[5 * pi]], r: values[d.pathIndices[5 * pi + 1]], msrd: values[d.pathIndices[5 * pi + 2]],
@@ -271,7 +271,7 @@ export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets
       const nk = d.modelK.length;
       // d chi / d free_j = sum over quantities q of (d chi / d q) * G[q, j]
       const sources: { index: number; column: Float64Array }[] = [
-        { index: d.ampIndex, column: dv.amp },
+        { index: d.s0sqIndex, column: dv.s0sq },
         { index: d.e0Index, column: dv.e0 },
       ];
       dv.paths.forEach((p, pi) => {

@@ -2,10 +2,10 @@
  * The default refinement recipe (what `fit` does without a study file): one group per
  * shell whose structure distance is at most rMax + pathMargin (|chi(R)| peaks sit about 0.3-0.5 Å
  * below the bond length because of the phase shift; common practice, no source); per group `r` and
- * `msrd` free and `n` fixed at the structure's degeneracy; one `e0`, free; `amp` fixed at a given
+ * `msrd` free and `n` fixed at the structure's degeneracy; one `e0`, free; `s0sq` fixed at a given
  * value (0.9 by default, common practice, no source) or free. c3 and c4 fixed at 0.
  *
- * Parameter names: `amp`, `e0`, and per shell `n_<id>`, `r_<id>`, `msrd_<id>`, `c3_<id>`,
+ * Parameter names: `s0sq`, `e0`, and per shell `n_<id>`, `r_<id>`, `msrd_<id>`, `c3_<id>`,
  * `c4_<id>` where <id> is the shell id with the dot replaced ("Cu.1" -> "Cu_1").
  */
 import { InputError } from '../../core/errors';
@@ -18,7 +18,7 @@ export interface RecipeOptions {
   /** Include shells with r0 <= rMax + pathMargin (Å; default 0.5). */
   pathMargin?: number;
   /** 'free', or a fixed value of S0^2 (default 0.9). */
-  amp?: number | 'free';
+  s0sq?: number | 'free';
   /** Start value of msrd, Å^2 (default 0.005). */
   msrdStart?: number;
   /** Vary c3 per shell too (default false). */
@@ -43,9 +43,9 @@ export function defaultRecipe(pathSet: PathSet, options: RecipeOptions): Recipe 
   if (paths.length === 0) {
     throw new InputError(`no shell of the structure lies within ${(options.rMax + margin).toFixed(2)} Å of the absorber (R range ends at ${options.rMax} Å)`, { key: '--r' });
   }
-  const amp = options.amp ?? 0.9;
+  const s0sq = options.s0sq ?? 0.9;
   const parameters: ParameterSpec[] = [
-    amp === 'free' ? { name: 'amp', value: 0.9, lower: 0.05, upper: 3 } : { name: 'amp', value: amp, state: 'fixed' },
+    s0sq === 'free' ? { name: 's0sq', value: 0.9, lower: 0.05, upper: 3 } : { name: 's0sq', value: s0sq, state: 'fixed' },
     { name: 'e0', value: 0, lower: -30, upper: 30 },
   ];
   const rules: PathRule[] = [];
@@ -63,7 +63,7 @@ export function defaultRecipe(pathSet: PathSet, options: RecipeOptions): Recipe 
   const description = [
     `${paths.length} shell${paths.length === 1 ? '' : 's'} with r0 <= ${(options.rMax + margin).toFixed(2)} Å, one group each`,
     `per group: r and msrd free, n fixed at the structure's degeneracy${options.freeC3 ? ', c3 free' : ''}`,
-    `e0 free; amp ${amp === 'free' ? 'free' : `fixed at ${amp}`}`,
+    `e0 free; s0sq ${s0sq === 'free' ? 'free' : `fixed at ${s0sq}`}`,
   ];
   return { parameters, paths, rules, description };
 }

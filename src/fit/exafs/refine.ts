@@ -177,8 +177,8 @@ export function refine(problem: ExafsProblem, options: RefineOptions = {}, setti
     params,
     shells,
     datasets: problem.datasets.map((d, di) => ({
-      name: d.spec.name, amp: byName.get(`_d${di}_amp`)!.value, e0: byName.get(`_d${di}_e0`)!.value,
-      ampExpression: d.spec.amp ?? 'amp', e0Expression: d.spec.e0 ?? 'e0',
+      name: d.spec.name, s0sq: byName.get(`_d${di}_s0sq`)!.value, e0: byName.get(`_d${di}_e0`)!.value,
+      s0sqExpression: d.spec.s0sq ?? 's0sq', e0Expression: d.spec.e0 ?? 'e0',
     })),
   });
   // convergence and bounds already have their messages above

@@ -17,7 +17,7 @@
  *   with hbar^2 / (k_B amu) = 48.508 Å^2 K from CODATA 2018 (src/core/constants.ts).
  * - Defaults of a rule: n = n0 (the structure's degeneracy, fixed), r = each, msrd = each,
  *   c3 = 0, c4 = 0; a data set without rules gets the fit command's recipe: every shell with
- *   r0 <= Rmax + 0.5 Å under those defaults, `amp` fixed at 0.9 and `e0` free (when the study
+ *   r0 <= Rmax + 0.5 Å under those defaults, `s0sq` fixed at 0.9 and `e0` free (when the study
  *   does not declare them), so the simplest study reproduces `shellrank fit`.
  */
 import { resolve } from 'node:path';
@@ -65,9 +65,9 @@ export const EACH_DEFAULTS: Readonly<Record<Quantity, { value: string; bounds: [
   c4: { value: '0', bounds: ['-0.001', '0.001'] },
 };
 
-/** amp and e0 when used but not declared: the fit command's defaults. */
-export const AUTO_PARAMETERS: Readonly<Record<'amp' | 'e0', Omit<ParameterSpec, 'name' | 'where'>>> = {
-  amp: { value: 0.9, state: 'fixed' },
+/** s0sq and e0 when used but not declared: the fit command's defaults. */
+export const AUTO_PARAMETERS: Readonly<Record<'s0sq' | 'e0', Omit<ParameterSpec, 'name' | 'where'>>> = {
+  s0sq: { value: 0.9, state: 'fixed' },
   e0: { value: 0, lower: -30, upper: 30 },
 };
 
@@ -330,15 +330,15 @@ export function prepareStudy(study: StudyFile, options: PrepareOptions): Prepare
   const eachSpecs: ParameterSpec[] = [];
   const eachNames = new Map<string, InputLocation>();
   const pending: Pending[] = [];
-  const prepared: { shells: SelectedShell[]; amp: string; e0: string }[] = [];
+  const prepared: { shells: SelectedShell[]; s0sq: string; e0: string }[] = [];
   for (const ds of loaded) {
     const d = ds.settings;
     const absorberWeight = elementBySymbol(ds.pathSet.absorber).weight;
     const datasetValues = new Map<string, number>();
     if (d.temperature !== undefined) datasetValues.set('temperature', d.temperature);
-    const entry = { shells: [] as SelectedShell[], amp: d.amp, e0: d.e0 };
+    const entry = { shells: [] as SelectedShell[], s0sq: d.s0sq, e0: d.e0 };
     prepared.push(entry);
-    for (const key of ['amp', 'e0'] as const) {
+    for (const key of ['s0sq', 'e0'] as const) {
       pending.push({ text: d[key], where: study.where(d.origin(key)), values: datasetValues, assign: (t) => void (entry[key] = t) });
     }
     for (const shell of ds.shells) {
@@ -421,10 +421,10 @@ export function prepareStudy(study: StudyFile, options: PrepareOptions): Prepare
 
   // Pass 2: check every expression against the parameters, then substitute the study's values.
   const declared = new Set([...userNames, ...eachNames.keys()]);
-  const allNames = [...declared, 'amp', 'e0'];
+  const allNames = [...declared, 's0sq', 'e0'];
   const used = new Set<string>();
   for (const item of pending) {
-    const known = (name: string) => declared.has(name) || name === 'amp' || name === 'e0' || item.values.has(name);
+    const known = (name: string) => declared.has(name) || name === 's0sq' || name === 'e0' || item.values.has(name);
     const compiled = compileChecked(item.text, item.where, known, [...allNames, ...item.values.keys()], item.values);
     compiled.symbols.forEach((s) => { if (!item.values.has(s)) used.add(s); });
     const text = substituteValues(item.text, item.values);
@@ -433,10 +433,10 @@ export function prepareStudy(study: StudyFile, options: PrepareOptions): Prepare
   }
   for (const spec of user) {
     if (spec.expression === undefined) continue;
-    const compiled = compileChecked(spec.expression, { ...spec.where, key: `${spec.where?.key}.expression` }, (n) => declared.has(n) || n === 'amp' || n === 'e0', allNames, new Map());
+    const compiled = compileChecked(spec.expression, { ...spec.where, key: `${spec.where?.key}.expression` }, (n) => declared.has(n) || n === 's0sq' || n === 'e0', allNames, new Map());
     compiled.symbols.forEach((s) => used.add(s));
   }
-  const auto: ParameterSpec[] = (['amp', 'e0'] as const)
+  const auto: ParameterSpec[] = (['s0sq', 'e0'] as const)
     .filter((n) => used.has(n) && !declared.has(n))
     .map((n) => ({ name: n, ...AUTO_PARAMETERS[n], where: { file, line: 1, key: n } }));
   const warnings: string[] = [];
@@ -451,7 +451,7 @@ export function prepareStudy(study: StudyFile, options: PrepareOptions): Prepare
     if (used.has(spec.name)) continue;
     const state = spec.state ?? (spec.expression !== undefined ? 'tied' : 'free');
     if (state === 'free') {
-      throw new InputError(`parameter ${spec.name} is free but nothing uses it (no shell rule, amp or e0 of a data set, or tied parameter refers to it)`, spec.where);
+      throw new InputError(`parameter ${spec.name} is free but nothing uses it (no shell rule, s0sq or e0 of a data set, or tied parameter refers to it)`, spec.where);
     }
     // a tied parameter nothing uses is a derived quantity kept for its reported value and error
     if (state === 'fixed') warnings.push(`parameter ${spec.name} (${formatLocation(spec.where)}) is declared but not used`);
@@ -466,7 +466,7 @@ export function prepareStudy(study: StudyFile, options: PrepareOptions): Prepare
     const tables = at(study.where(['datasets', d.index]), file, () => tablesForPaths(ds.pathSet, paths, provider, d.kRange[1] + d.kTaper.taper));
     const fit: FitDataset = {
       name: d.name, k: ds.data.chi.k, chi: ds.data.chi.chi, noiseChi: ds.data.chi.noise.k, paths, tables,
-      rules: shells.map((s) => s.expressions), amp: prepared[i].amp, e0: prepared[i].e0,
+      rules: shells.map((s) => s.expressions), s0sq: prepared[i].s0sq, e0: prepared[i].e0,
       kRange: d.kRange, kWeightings: d.kWeightings, kTaper: d.kTaper, rRange: d.rRange, rTaper: d.rTaper, space: d.space,
     };
     return { settings: d, data: ds.data, structure: ds.structure, pathSet: ds.pathSet, shells, fit };
@@ -485,7 +485,7 @@ export function prepareStudy(study: StudyFile, options: PrepareOptions): Prepare
       const source = ruleIndex < 0 ? `default recipe, shells with r0 <= ${(d.rRange[1] + AUTO_MARGIN).toFixed(2)} Å` : `rule at line ${study.where(rule.path).line}`;
       description.push(`${d.name}: ${ids.join(', ')} (${source}): ${parts}`);
     }
-    description.push(`${d.name}: amp = ${d.amp}, e0 = ${d.e0}${d.temperature !== undefined ? `, temperature ${d.temperature} K` : ''}`);
+    description.push(`${d.name}: s0sq = ${d.s0sq}, e0 = ${d.e0}${d.temperature !== undefined ? `, temperature ${d.temperature} K` : ''}`);
   });
   for (const a of auto) description.push(`${a.name} ${a.state === 'fixed' ? `fixed at ${a.value}` : `free from ${a.value} within [${a.lower}, ${a.upper}]`} (not declared in the study; the fit command's default)`);
 

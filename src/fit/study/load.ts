@@ -54,7 +54,7 @@ export interface StudyDataset {
   space: FitDomain;
   kTaper: { shape: WindowShape; taper: number };
   rTaper: { shape: WindowShape; taper: number };
-  amp: string;
+  s0sq: string;
   e0: string;
   /** Shell rules; undefined means the fit command's default recipe. */
   shells?: ShellRuleInput[];
@@ -131,7 +131,7 @@ function mergeDatasets(input: StudyInput, where: (path: KeyPath) => InputLocatio
     used.set(name, index);
     const kTaper = pick('kTaper') ?? {};
     const rTaper = pick('rTaper') ?? {};
-    const amp = pick('amp');
+    const s0sq = pick('s0sq');
     const e0 = pick('e0');
     return {
       index,
@@ -151,7 +151,7 @@ function mergeDatasets(input: StudyInput, where: (path: KeyPath) => InputLocatio
       space: (pick('space') ?? DEFAULT_FIT_SETTINGS.space) as FitDomain,
       kTaper: { shape: (kTaper.shape ?? DEFAULT_FIT_SETTINGS.kTaper.shape) as WindowShape, taper: kTaper.taper ?? DEFAULT_FIT_SETTINGS.kTaper.taper },
       rTaper: { shape: (rTaper.shape ?? DEFAULT_FIT_SETTINGS.rTaper.shape) as WindowShape, taper: rTaper.taper ?? DEFAULT_FIT_SETTINGS.rTaper.taper },
-      amp: amp === undefined ? 'amp' : String(amp),
+      s0sq: s0sq === undefined ? 's0sq' : String(s0sq),
       e0: e0 === undefined ? 'e0' : String(e0),
       shells: pick('shells'),
       origin,

@@ -24,14 +24,14 @@ export interface StudyFitResult extends StructureFitResult {
 /** Refine a prepared study. Non-convergence is a status in the result (as for `fit`). */
 export function runStudy(prepared: PreparedStudy): StudyFitResult {
   const { study } = prepared;
-  const amp = prepared.parameters.find((p) => p.name === 'amp');
-  const ampSetting: number | 'free' = amp === undefined ? DEFAULT_FIT_SETTINGS.amp : amp.state === 'fixed' && amp.value !== undefined ? amp.value : 'free';
+  const s0sq = prepared.parameters.find((p) => p.name === 's0sq');
+  const s0sqSetting: number | 'free' = s0sq === undefined ? DEFAULT_FIT_SETTINGS.s0sq : s0sq.state === 'fixed' && s0sq.value !== undefined ? s0sq.value : 'free';
   const datasetSettings = prepared.datasets.map((ds) => {
     const d = ds.settings;
     return {
       name: d.name,
       ...DEFAULT_FIT_SETTINGS,
-      kRange: d.kRange, rRange: d.rRange, kWeightings: d.kWeightings, space: d.space, amp: ampSetting,
+      kRange: d.kRange, rRange: d.rRange, kWeightings: d.kWeightings, space: d.space, s0sq: s0sqSetting,
       kTaper: d.kTaper, rTaper: d.rTaper, starts: prepared.refine.starts, maxIterations: prepared.refine.maxIterations,
       ...(d.temperature !== undefined ? { temperature: d.temperature } : {}),
     };

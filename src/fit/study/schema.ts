@@ -149,8 +149,8 @@ const datasetFields = {
   space: z.enum(FIT_DOMAINS as [string, ...string[]]).optional(),
   kTaper: windowSchema.optional(),
   rTaper: windowSchema.optional(),
-  /** Expressions for this data set's S0^2 and E0 shift (default the parameters amp and e0). */
-  amp: numberOrExpression.optional(),
+  /** Expressions for this data set's S0^2 and E0 shift (default the parameters s0sq and e0). */
+  s0sq: numberOrExpression.optional(),
   e0: numberOrExpression.optional(),
   shells: z.array(shellRuleSchema).min(1).optional(),
 };

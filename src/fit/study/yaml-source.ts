@@ -39,7 +39,7 @@ export interface YamlSource {
   lineOf(path: KeyPath): number;
 }
 
-/** `datasets[0].k`, `parameters.amp.bounds`, `parameters["odd key"]`. */
+/** `datasets[0].k`, `parameters.s0sq.bounds`, `parameters["odd key"]`. */
 export function formatKeyPath(path: KeyPath): string {
   let out = '';
   for (const segment of path) {
