@@ -208,7 +208,7 @@ function measure(c: Compound, provider: ReturnType<typeof firstPrinciplesProvide
   try {
     problem = buildExafsProblem(parameters, [{
       name: c.file, k: chi.k, chi: chi.chi, noiseChi: chi.noise.k, paths, tables, rules,
-      kRange: K_RANGE, kWeightings: [2], kTaper: { shape: 'hann', taper: 1 }, rRange, rTaper: { shape: 'hann', taper: 0.5 }, space: 'r',
+      kRange: K_RANGE, kWeightings: [2], kTaper: { shape: 'hann', taper: 1 }, rRange, rTaper: { shape: 'hann', taper: 0.5 }, fitIn: 'R',
     }]);
   } catch (e) {
     // e.g. a scan that reduces but ends short of the fit's k range
@@ -217,7 +217,7 @@ function measure(c: Compound, provider: ReturnType<typeof firstPrinciplesProvide
   const fitChi = (data: typeof chi) => {
     const next = buildExafsProblem(parameters, [{
       name: c.file, k: data.k, chi: data.chi, noiseChi: data.noise.k, paths, tables, rules,
-      kRange: K_RANGE, kWeightings: [2], kTaper: { shape: 'hann', taper: 1 }, rRange, rTaper: { shape: 'hann', taper: 0.5 }, space: 'r',
+      kRange: K_RANGE, kWeightings: [2], kTaper: { shape: 'hann', taper: 1 }, rRange, rTaper: { shape: 'hann', taper: 0.5 }, fitIn: 'R',
     }]);
     const fitted = refine(next, { maxIterations: 200 });
     return { result: fitted, model: fitted.curves[0].model, value: fitted.params.dr1.value };

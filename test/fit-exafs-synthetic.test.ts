@@ -33,17 +33,17 @@ const rules = [
   { n: '8', r: 'r2', msrd: 's2', c3: '0', c4: '0' },
 ];
 
-function dataset(chi: Float64Array, noise: number, space: 'k' | 'r' | 'q', kWeightings = [2]): FitDataset {
+function dataset(chi: Float64Array, noise: number, fitIn: 'k' | 'R' | 'q', kWeightings = [2]): FitDataset {
   return {
     name: 'synthetic', k, chi, noiseChi: noise, paths, tables, rules,
-    kRange: [3, 14], kWeightings, kTaper: { shape: 'hann', taper: 1 }, rRange: [1, 3.2], rTaper: { shape: 'hann', taper: 0.5 }, space,
+    kRange: [3, 14], kWeightings, kTaper: { shape: 'hann', taper: 1 }, rRange: [1, 3.2], rTaper: { shape: 'hann', taper: 0.5 }, fitIn,
   };
 }
 
 describe('EXAFS refinement on synthetic data (invented model, parametric provider)', () => {
   it('recovers the true parameters exactly from noise-free data in k, R and q space (tolerance 1e-6)', () => {
-    for (const space of ['k', 'r', 'q'] as const) {
-      const result = refine(buildExafsProblem(parameters, [dataset(clean, 1e-3, space)]));
+    for (const fitIn of ['k', 'R', 'q'] as const) {
+      const result = refine(buildExafsProblem(parameters, [dataset(clean, 1e-3, fitIn)]));
       expect(result.status.converged).toBe(true);
       expect(Math.abs(result.params.r1.value - truth.r1)).toBeLessThan(1e-6);
       expect(Math.abs(result.params.s2.value - truth.s2)).toBeLessThan(1e-6);
@@ -56,8 +56,8 @@ describe('EXAFS refinement on synthetic data (invented model, parametric provide
   // draws (Gaussian, common practice, no source), so +-1 error is held to a binomial band around
   // 0.683 (50 draws: sd 0.066; band 0.50-0.86) and the reported 95 % interval to >= 90 %.
   // The mean reported error must match the observed scatter of the fitted values (0.75-1.33).
-  for (const space of ['r', 'k', 'q'] as const) {
-    it(`reports calibrated errors in ${space} space: 50 seeds, 1-sigma coverage near 68 %, 95 % intervals cover >= 90 %`, () => {
+  for (const fitIn of ['R', 'k', 'q'] as const) {
+    it(`reports calibrated errors in ${fitIn} space: 50 seeds, 1-sigma coverage near 68 %, 95 % intervals cover >= 90 %`, () => {
       const sigma = 0.002; // per-point noise of chi(k), a typical magnitude for good transmission data
       const names = ['e0', 'r1', 's1', 'r2', 's2'] as const;
       const seeds = 50;
@@ -69,7 +69,7 @@ describe('EXAFS refinement on synthetic data (invented model, parametric provide
       for (let seed = 1; seed <= seeds; seed++) {
         const random = seededRandom(seed);
         const noisy = Float64Array.from(clean, (c) => c + sigma * random.normal());
-        const result = refine(buildExafsProblem(parameters, [dataset(noisy, sigma, space)], { noiseCache }));
+        const result = refine(buildExafsProblem(parameters, [dataset(noisy, sigma, fitIn)], { noiseCache }));
         expect(result.status.converged).toBe(true);
         expect(result.stats.errorMethod).toBe('propagated');
         for (const n of names) {
@@ -94,18 +94,18 @@ describe('EXAFS refinement on synthetic data (invented model, parametric provide
   }
 
   it('fits several k-weights at once and shares parameters between two data sets', () => {
-    const result = refine(buildExafsProblem(parameters, [dataset(clean, 1e-3, 'r', [1, 2, 3]), { ...dataset(clean, 1e-3, 'k'), name: 'second' }]));
+    const result = refine(buildExafsProblem(parameters, [dataset(clean, 1e-3, 'R', [1, 2, 3]), { ...dataset(clean, 1e-3, 'k'), name: 'second' }]));
     expect(result.status.converged).toBe(true);
     expect(Math.abs(result.params.r2.value - truth.r2)).toBeLessThan(1e-6);
     expect(result.shells).toHaveLength(4);
     // two data sets over the same ranges carry twice the independent points
-    const single = refine(buildExafsProblem(parameters, [dataset(clean, 1e-3, 'r')]));
+    const single = refine(buildExafsProblem(parameters, [dataset(clean, 1e-3, 'R')]));
     expect(result.stats.nIndependent).toBeCloseTo(2 * single.stats.nIndependent, 10);
   });
 
   it('gives tied parameters their value and a propagated error (delta method)', () => {
     const tied: ParameterSpec[] = [...parameters.filter((p) => p.name !== 's2'), { name: 's2', expression: '1.6 * s1' }];
-    const result = refine(buildExafsProblem(tied, [dataset(clean, 1e-3, 'r')]));
+    const result = refine(buildExafsProblem(tied, [dataset(clean, 1e-3, 'R')]));
     expect(result.params.s2.state).toBe('tied');
     expect(result.params.s2.value).toBeCloseTo(1.6 * result.params.s1.value, 12);
     expect(result.params.s2.error).toBeCloseTo(1.6 * result.params.s1.error, 10);
@@ -114,7 +114,7 @@ describe('EXAFS refinement on synthetic data (invented model, parametric provide
   it('reports non-convergence as a status, never as an exception or NaN values', () => {
     const random = seededRandom(3);
     const noise = Float64Array.from(clean, () => random.normal());
-    const result = refine(buildExafsProblem(parameters, [dataset(noise, 1e-3, 'r')]), { maxIterations: 2 });
+    const result = refine(buildExafsProblem(parameters, [dataset(noise, 1e-3, 'R')]), { maxIterations: 2 });
     expect(result.status.converged).toBe(false);
     expect(result.status.code).not.toBe('converged');
     expect(result.warnings[0]).toMatch(/did not converge/);

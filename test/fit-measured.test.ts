@@ -40,7 +40,7 @@ describe('first-shell fits of the measured spectra', () => {
     if (!r) {
       const { chi } = loadChiOrReduce(join(DATA, c.file));
       const set = shellsOfStructure(c.structure, { absorber: { element: c.structure.species[0] }, radius: 6 });
-      r = fitStructure(chi, set, provider, { s0sq: 'free', kRange: [3, 14], rRange: c.r, space: 'r' });
+      r = fitStructure(chi, set, provider, { s0sq: 'free', kRange: [3, 14], rRange: c.r, fitIn: 'R' });
       results.set(c.name, r);
     }
     return r;

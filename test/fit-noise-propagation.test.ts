@@ -18,18 +18,18 @@ const chi = evaluateModel(k, tables, { s0sq: 0.9, e0: 0, paths: [{ n: 6, r: 2.0,
 const rules = [{ n: '6', r: 'r1', msrd: 's1', c3: '0', c4: '0' }];
 const parameters = [{ name: 's0sq', value: 0.9, state: 'fixed' as const }, { name: 'e0', value: 0 }, { name: 'r1', value: 2.0 }, { name: 's1', value: 0.005 }];
 
-function dataset(space: 'k' | 'r' | 'q', kWeightings: number[], name = 'set'): FitDataset {
+function dataset(fitIn: 'k' | 'R' | 'q', kWeightings: number[], name = 'set'): FitDataset {
   return {
     name, k, chi, noiseChi: 0.003, paths, tables, rules, kRange: [3, 13.5], kWeightings,
-    kTaper: { shape: 'hann', taper: 1 }, rRange: [1, 2.8], rTaper: { shape: 'hann', taper: 0.4 }, space,
+    kTaper: { shape: 'hann', taper: 1 }, rRange: [1, 2.8], rTaper: { shape: 'hann', taper: 0.4 }, fitIn,
   };
 }
 
 describe('noise map of a data set (closed form of test/../problem.ts)', () => {
-  for (const space of ['k', 'r', 'q'] as const) {
+  for (const fitIn of ['k', 'R', 'q'] as const) {
     for (const kWeightings of [[2], [1, 3]]) {
-      it(`equals the residual map applied to unit data vectors, ${space} space, k-weights ${kWeightings.join(',')}`, () => {
-        const problem = buildExafsProblem(parameters, [dataset('k', [1]), dataset(space, kWeightings, 'second')]);
+      it(`equals the residual map applied to unit data vectors, ${fitIn} space, k-weights ${kWeightings.join(',')}`, () => {
+        const problem = buildExafsProblem(parameters, [dataset('k', [1]), dataset(fitIn, kWeightings, 'second')]);
         const d = problem.datasets[1];
         const { columns, matrix } = noiseMatrix(d);
         // residual = P (model - data): perturbing one data point by its noise moves the residuals by -P' e_i
@@ -42,7 +42,7 @@ describe('noise map of a data set (closed form of test/../problem.ts)', () => {
           if (c % 7 !== 0 && c !== columns.length - 1) continue; // every 7th column and the last
           const moved = chi.slice();
           moved[i] += d.spec.noiseChi;
-          const other = buildExafsProblem(parameters, [dataset('k', [1]), { ...dataset(space, kWeightings, 'second'), chi: moved }]);
+          const other = buildExafsProblem(parameters, [dataset('k', [1]), { ...dataset(fitIn, kWeightings, 'second'), chi: moved }]);
           const out = new Float64Array(problem.nResiduals);
           other.residuals(free, out);
           for (let row = 0; row < d.length; row++) {
@@ -58,13 +58,13 @@ describe('noise map of a data set (closed form of test/../problem.ts)', () => {
   }
 
   it('gives each residual unit variance on average, as the noise normalisation intends (k and r space)', () => {
-    for (const space of ['k', 'r'] as const) {
-      const d = buildExafsProblem(parameters, [dataset(space, [2])]).datasets[0];
+    for (const fitIn of ['k', 'R'] as const) {
+      const d = buildExafsProblem(parameters, [dataset(fitIn, [2])]).datasets[0];
       const block = noiseBlock(0, d.length, noiseMatrix(d).columns.length, noiseMatrix(d).matrix);
       // tr(S) / rows: exactly 1 for the k-space weighting by the rms weight; for R, Parseval's
       // estimate of the noise spread over 0..pi/(2 dk) (within a few per cent inside an R range)
-      expect(block.trace / d.length).toBeGreaterThan(space === 'k' ? 0.999999 : 0.9);
-      expect(block.trace / d.length).toBeLessThan(space === 'k' ? 1.000001 : 1.1);
+      expect(block.trace / d.length).toBeGreaterThan(fitIn === 'k' ? 0.999999 : 0.9);
+      expect(block.trace / d.length).toBeLessThan(fitIn === 'k' ? 1.000001 : 1.1);
     }
   });
 });
@@ -121,7 +121,7 @@ describe('propagation of correlated noise to the parameters (linear least square
   });
 
   it('has a noise spectrum far from flat in R space with a Hann window: fewer effective points than Stern counts', () => {
-    const problem = buildExafsProblem(parameters, [dataset('r', [2])]);
+    const problem = buildExafsProblem(parameters, [dataset('R', [2])]);
     const d = problem.datasets[0];
     const { columns, matrix } = noiseMatrix(d);
     const P = Matrix.from1DArray(d.length, columns.length, matrix);

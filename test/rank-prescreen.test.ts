@@ -29,16 +29,16 @@ function simulated(s0sq: number, e0: number): Float64Array {
   return evaluateModel(k, tables, { s0sq, e0, paths: paths.map((p, j) => ({ n: p.degeneracy, r: p.r, msrd: msrd[j], c3: 0, c4: 0 })) }).chi;
 }
 
-function windowSettings(space: FitDomain): WindowSettings {
-  return { kRange: [3, 14], rRange: [1.2, 4.2], kWeightings: [2], space, kTaper: { shape: 'hann', taper: 1 }, rTaper: { shape: 'hann', taper: 0.5 } };
+function windowSettings(fitIn: FitDomain): WindowSettings {
+  return { kRange: [3, 14], rRange: [1.2, 4.2], kWeightings: [2], fitIn, kTaper: { shape: 'hann', taper: 1 }, rTaper: { shape: 'hann', taper: 0.5 } };
 }
 
 describe('projectChi reproduces the residual layout of buildExafsProblem', () => {
-  for (const space of ['r', 'k', 'q'] as FitDomain[]) {
-    it(`in ${space} space, to 1e-12 of the largest element`, () => {
+  for (const fitIn of ['R', 'k', 'q'] as FitDomain[]) {
+    it(`in ${fitIn} space, to 1e-12 of the largest element`, () => {
       const data = simulated(0.9, 1.5);
       const noiseChi = 1e-3;
-      const w = windowSettings(space);
+      const w = windowSettings(fitIn);
       const window = compileWindow({ name: 'synthetic', k, chi: data, noiseChi }, w);
       // the oracle: a problem with every path quantity fixed; residuals = model - data
       const problem = buildExafsProblem(
@@ -46,7 +46,7 @@ describe('projectChi reproduces the residual layout of buildExafsProblem', () =>
         [{
           name: 'synthetic', k, chi: data, noiseChi, paths, tables,
           rules: paths.map((p, j) => ({ n: String(p.degeneracy), r: String(p.r), msrd: String(msrd[j]), c3: '0', c4: '0' })),
-          kRange: w.kRange, kWeightings: w.kWeightings, kTaper: w.kTaper, rRange: w.rRange, rTaper: w.rTaper, space,
+          kRange: w.kRange, kWeightings: w.kWeightings, kTaper: w.kTaper, rRange: w.rRange, rTaper: w.rTaper, fitIn,
         }],
       );
       const expected = new Float64Array(problem.nResiduals);
@@ -62,7 +62,7 @@ describe('projectChi reproduces the residual layout of buildExafsProblem', () =>
 
 describe('prescreen', () => {
   it('recovers s0sq and e0 of a noise-free spectrum (s0sq 0.85 and e0 3 eV put in; tolerance 1e-3 and 0.01 eV)', () => {
-    const window = compileWindow({ name: 'synthetic', k, chi: simulated(0.85, 3), noiseChi: 1e-4 }, windowSettings('r'));
+    const window = compileWindow({ name: 'synthetic', k, chi: simulated(0.85, 3), noiseChi: 1e-4 }, windowSettings('R'));
     const result = prescreen(window, [{ paths, tables, msrd }], { s0sq: 'free', s0sqBounds: [0.5, 1.5], e0Range: [-15, 15] });
     expect(result.s0sq.value).toBeCloseTo(0.85, 3);
     expect(Math.abs(result.e0.value - 3)).toBeLessThan(0.01);
@@ -76,7 +76,7 @@ describe('prescreen', () => {
     const noise = () => { state = (1103515245 * state + 12345) % 2147483648; return state / 2147483648 - 0.5; };
     const clean = simulated(0.92, -4);
     const data = Float64Array.from(clean, (v, i) => v + 0.004 * noise() / Math.max(1, k[i]) ** 0);
-    const w = windowSettings('r');
+    const w = windowSettings('R');
     const noiseChi = 0.004 / Math.sqrt(12);
     const window = compileWindow({ name: 'noisy', k, chi: data, noiseChi }, w);
     const quick = prescreen(window, [{ paths, tables, msrd }], { s0sq: 'free', s0sqBounds: [0.5, 1.5], e0Range: [-15, 15] });
@@ -85,7 +85,7 @@ describe('prescreen', () => {
       [{
         name: 'noisy', k, chi: data, noiseChi, paths, tables,
         rules: paths.map((p, j) => ({ n: String(p.degeneracy), r: String(p.r), msrd: String(msrd[j]), c3: '0', c4: '0' })),
-        kRange: w.kRange, kWeightings: w.kWeightings, kTaper: w.kTaper, rRange: w.rRange, rTaper: w.rTaper, space: 'r',
+        kRange: w.kRange, kWeightings: w.kWeightings, kTaper: w.kTaper, rRange: w.rRange, rTaper: w.rTaper, fitIn: 'R',
       }],
     );
     const full = refine(problem);
@@ -105,7 +105,7 @@ describe('prescreen', () => {
       const a2 = evaluateModel(k, tablesLonger, { s0sq: 0.9, e0: 1, paths: longer.map((p, j) => ({ n: p.degeneracy * (1 - f), r: p.r, msrd: msrd[j], c3: 0, c4: 0 })) }).chi;
       return Float64Array.from(a1, (v, i) => v + a2[i]);
     };
-    const window = compileWindow({ name: 'mixture', k, chi: mix(0.3), noiseChi: 1e-4 }, windowSettings('r'));
+    const window = compileWindow({ name: 'mixture', k, chi: mix(0.3), noiseChi: 1e-4 }, windowSettings('R'));
     const result = prescreen(window, [{ paths, tables, msrd }, { paths: longer, tables: tablesLonger, msrd }], { s0sq: 'free', s0sqBounds: [0.5, 1.5], e0Range: [-10, 10] });
     expect(result.fraction!.value).toBeCloseTo(0.3, 2);
     expect(result.s0sq.value).toBeCloseTo(0.9, 2);

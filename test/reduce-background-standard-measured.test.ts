@@ -63,7 +63,7 @@ describe('CuO 13 K: background with the fitted model as standard', () => {
           (chi) => {
             const fit = refine(buildExafsProblem(parameters, [{
               name: 'CuO', k: chi.k, chi: chi.chi, noiseChi: chi.noise.k, paths, tables, rules,
-              kRange: [3, 12], kWeightings: [2], kTaper: { shape: 'hann', taper: 1 }, rRange, rTaper: { shape: 'hann', taper: 0.5 }, space: 'r',
+              kRange: [3, 12], kWeightings: [2], kTaper: { shape: 'hann', taper: 1 }, rRange, rTaper: { shape: 'hann', taper: 0.5 }, fitIn: 'R',
             }]), { maxIterations: 200 });
             return { result: fit, model: fit.curves[0].model, value: fit.params.dr1.value };
           },

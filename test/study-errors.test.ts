@@ -83,7 +83,7 @@ describe('study error messages name the file, the line and the key', () => {
     expect(studyError(replace(10, '    k: 14:3')).message).toBe('bad.study.yaml:10: datasets[0].k: the range must increase, got 14:3');
     expect(studyError(replace(9, '    absorber: [Cu]')).message).toMatch(/^bad\.study\.yaml:9: datasets\[0\]\.absorber: expected an element/);
     expect(studyError([...VALID, '    radius: big']).message).toBe("bad.study.yaml:15: datasets[0].radius: expected a number, got the text 'big'");
-    expect(studyError([...VALID, '    space: R']).message).toBe("bad.study.yaml:15: datasets[0].space: expected one of k, r, q, got the text 'R' (did you mean 'r'?)");
+    expect(studyError([...VALID, '    fitIn: r']).message).toBe("bad.study.yaml:15: datasets[0].fitIn: expected one of k, R, q, got the text 'r' (did you mean 'R'?)");
     expect(studyError([...VALID, '    kTaper: { shape: han }']).message).toMatch(/^bad\.study\.yaml:15: datasets\[0\]\.kTaper\.shape: expected one of hann, box, kaiser, welch, got the text 'han' \(did you mean 'hann'\?\)$/);
     expect(studyError(replace(5, '  s1: { value: small }')).message).toBe("bad.study.yaml:5: parameters.s1.value: expected a number, got the text 'small'");
     expect(studyError(replace(5, '  s1: true')).message).toMatch(/^bad\.study\.yaml:5: parameters\.s1: expected a number \(fixed\), an expression \(tied\) or a mapping/);

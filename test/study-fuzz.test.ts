@@ -48,7 +48,7 @@ datasets:
         r: { expand: expansion }
         msrd: { each: { value: 0.006, bounds: [0, 0.05] } }
   - name: second
-    space: k
+    fitIn: k
     shells:
       - include: [Cu.1]
         n: n0

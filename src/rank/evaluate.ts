@@ -285,7 +285,7 @@ function evaluateRefine(ctx: EvaluationContext, components: ComponentShells[], s
   const m = ctx.job.data;
   const problem = buildExafsProblem(recipe.parameters, [{
     name: m.name, k: m.k, chi: m.chi, noiseChi: m.noiseChi, paths: recipe.paths, tables, rules: recipe.rules,
-    kRange: w.kRange, kWeightings: w.kWeightings, kTaper: w.kTaper, rRange: w.rRange, rTaper: w.rTaper, space: w.space,
+    kRange: w.kRange, kWeightings: w.kWeightings, kTaper: w.kTaper, rRange: w.rRange, rTaper: w.rTaper, fitIn: w.fitIn,
   }], { noiseCache: ctx.noiseCache });
   const result = refine(problem, { starts: s.starts });
   const fit: FitSummary = {

@@ -42,7 +42,7 @@ export interface RankOptions {
   kRange?: [number, number];
   rRange?: [number, number];
   kWeightings?: number[];
-  space?: FitDomain;
+  fitIn?: FitDomain;
   kTaper?: { shape: WindowShape; taper: number };
   rTaper?: { shape: WindowShape; taper: number };
   pathMargin?: number;
@@ -95,7 +95,7 @@ export function resolveSettings(options: RankOptions, chi: Chi, _candidateCount?
       kRange: options.kRange ?? defaultKRange(chi),
       rRange,
       kWeightings: options.kWeightings ?? [2],
-      space: options.space ?? 'r',
+      fitIn: options.fitIn ?? 'R',
       kTaper: options.kTaper ?? { shape: 'hann', taper: 1 },
       rTaper: options.rTaper ?? { shape: 'hann', taper: 0.5 },
     },

@@ -21,7 +21,7 @@ export interface WindowSettings {
   /** R range of the fit, Å. */
   rRange: [number, number];
   kWeightings: number[];
-  space: FitDomain;
+  fitIn: FitDomain;
   kTaper: { shape: WindowShape; taper: number };
   rTaper: { shape: WindowShape; taper: number };
 }
@@ -55,7 +55,7 @@ export function compileWindow(measured: MeasuredChi, settings: WindowSettings): 
     [{ name: 's0sq', value: 1, state: 'fixed' }, { name: 'e0', value: 0, state: 'fixed' }],
     [{
       name: measured.name, k: measured.k, chi: measured.chi, noiseChi: measured.noiseChi, paths: [], tables: [], rules: [],
-      kRange: settings.kRange, kWeightings: settings.kWeightings, kTaper: settings.kTaper, rRange: settings.rRange, rTaper: settings.rTaper, space: settings.space,
+      kRange: settings.kRange, kWeightings: settings.kWeightings, kTaper: settings.kTaper, rRange: settings.rRange, rTaper: settings.rTaper, fitIn: settings.fitIn,
     }],
   );
   return {
@@ -70,16 +70,16 @@ export function compileWindow(measured: MeasuredChi, settings: WindowSettings): 
  */
 export function projectChi(window: DataWindow, chi: Float64Array, out: Float64Array, scale = 1): void {
   const d = window.dataset;
-  const space = d.spec.space;
+  const fitIn = d.spec.fitIn;
   let row = 0;
   for (const noise of d.noise) {
     const w = noise.kWeighting;
-    if (space === 'k') {
+    if (fitIn === 'k') {
       for (const i of d.kInside) out[row++] = (scale * d.windowK[i] * Math.pow(d.modelK[i], w) * chi[i]) / noise.epsK;
       continue;
     }
     const spectrum = forwardTransform(d.modelK, chi, { kWeighting: w, window: d.kTaper });
-    if (space === 'r') {
+    if (fitIn === 'R') {
       const sigma = noise.epsR / Math.SQRT2;
       for (const j of d.rInside) out[row++] = (scale * spectrum.re[j]) / sigma;
       for (const j of d.rInside) out[row++] = (scale * spectrum.im[j]) / sigma;

@@ -57,7 +57,7 @@ export function fabricatedFit(name: string, shift: number, options: { seed?: num
       rRange: [1, 3.4],
       shells: [{ label: 'O 1', chi: s1 }, { label: 'Zn 2', chi: s2 }],
     },
-    settings: { space: 'r', kRange: [3, 14], rRange: [1, 3.4], kWeighting: 2 },
+    settings: { fitIn: 'R', kRange: [3, 14], rRange: [1, 3.4], kWeighting: 2 },
     provenance: { tool: 'shellrank', version: '0.0.0-fixture', settings: { fabricated: true }, inputs: [{ role: 'data', file: 'fabricated.xdi', sha256: '0'.repeat(64) }], id: 'fixture' },
   };
 }
@@ -79,7 +79,7 @@ export function fabricatedRank(names: string[] = ['tetrahedral site', 'octahedra
   });
   return {
     candidates,
-    settings: { kRange: [3, 14], rRange: [1, 3.4], kWeighting: 2, space: 'r', significanceLevel: 0.95 },
+    settings: { kRange: [3, 14], rRange: [1, 3.4], kWeighting: 2, fitIn: 'R', significanceLevel: 0.95 },
     provenance: { tool: 'shellrank', version: '0.0.0-fixture', settings: { fabricated: true }, inputs: [{ role: 'data', file: 'fabricated.xdi', sha256: 'f'.repeat(64) }], id: 'fixture-rank' },
     warnings: ['fabricated test fixture, not data'],
   };

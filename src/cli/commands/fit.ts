@@ -21,7 +21,7 @@ export interface FitCliOptions extends StructureCliOptions {
   k: string;
   r: string;
   kw: string;
-  space: string;
+  fitIn: string;
   s0sq: string;
   s0sqFrom?: string;
   starts: string;
@@ -39,7 +39,7 @@ export function addFitOptions(command: Command): Command {
     .option('--k <min:max>', 'k range of the fit, 1/Å', `${DEFAULT_FIT_SETTINGS.kRange[0]}:${DEFAULT_FIT_SETTINGS.kRange[1]}`)
     .option('--r <min:max>', 'R range of the fit, Å', `${DEFAULT_FIT_SETTINGS.rRange[0]}:${DEFAULT_FIT_SETTINGS.rRange[1]}`)
     .option('--kw <weights>', 'k-weight, or several separated by commas (e.g. 1,2,3)', '2')
-    .option('--space <space>', `fit space: ${FIT_DOMAINS.join(', ')}`, DEFAULT_FIT_SETTINGS.space)
+    .option('--fit-in <domain>', `fit in: ${FIT_DOMAINS.join(', ')}`, DEFAULT_FIT_SETTINGS.fitIn)
     .option('--s0sq <value>', "S0^2: a fixed value, or 'free'", String(DEFAULT_FIT_SETTINGS.s0sq))
     .option('--s0sq-from <fit.json>', 'fix S0^2 at the value of an earlier fit of a reference compound')
     .option('--starts <n>', 'number of starts (more than 1 adds seeded random starts)', '1')
@@ -73,7 +73,7 @@ export function s0sqFromFit(path: string): number {
 }
 
 export function parseFitOptions(raw: FitCliOptions): StructureFitSettings {
-  if (!(FIT_DOMAINS as readonly string[]).includes(raw.space)) throw new InputError(`unknown fit space '${raw.space}' (expected ${FIT_DOMAINS.join(', ')})`, { key: '--space' });
+  if (!(FIT_DOMAINS as readonly string[]).includes(raw.fitIn)) throw new InputError(`unknown fit space '${raw.fitIn}' (expected ${FIT_DOMAINS.join(', ')})`, { key: '--fit-in' });
   const kWeightings = raw.kw.split(',').map((w) => parseNumber('--kw', w, { min: 0, max: 4 }));
   let s0sq: number | 'free';
   if (raw.s0sqFrom !== undefined) s0sq = s0sqFromFit(raw.s0sqFrom);
@@ -83,7 +83,7 @@ export function parseFitOptions(raw: FitCliOptions): StructureFitSettings {
     kRange: parseRange('--k', raw.k),
     rRange: parseRange('--r', raw.r),
     kWeightings,
-    space: raw.space as FitDomain,
+    fitIn: raw.fitIn as FitDomain,
     s0sq,
     starts: parseInteger('--starts', raw.starts, 1),
     maxIterations: parseInteger('--max-iterations', raw.maxIterations, 1),
@@ -120,7 +120,7 @@ export function registerFit(program: Command, io: CliIo): void {
         emit(io, toJson(doc, 10), raw.out, [dataFile, structureFile]);
       } else {
         const lines = [
-          `fit of ${structureFile} to ${dataFile} (${set.absorber} ${set.edge} edge, ${settings.space} space, k ${settings.kRange.join('-')} 1/Å, R ${settings.rRange.join('-')} Å, k-weight ${settings.kWeightings.join(',')})`,
+          `fit of ${structureFile} to ${dataFile} (${set.absorber} ${set.edge} edge, ${settings.fitIn} space, k ${settings.kRange.join('-')} 1/Å, R ${settings.rRange.join('-')} Å, k-weight ${settings.kWeightings.join(',')})`,
           data.reducedHere ? `data reduced here with default settings: E0 = ${data.chi.e0.toFixed(2)} eV, edge step ${data.chi.edgeStep.toPrecision(4)}` : 'data: saved reduction',
           ...fitResultLines(result, { showParameter: (n) => n === 's0sq' || n === 'e0', recipe: result.recipe }),
         ];

@@ -39,7 +39,7 @@ export interface RankCliOptions {
   k?: string;
   r: string;
   kw: string;
-  space: string;
+  fitIn: string;
   window: string;
   taper: string;
   rTaper: string;
@@ -87,7 +87,7 @@ export function addRankOptions(command: Command): Command {
     .option('--k <min:max>', 'k range of the fit, 1/Å (default 3:14, or 3 to the end of the data)')
     .option('--r <min:max>', 'R range of the fit, Å', '1.2:3.6')
     .option('--kw <weights>', 'k-weight, or several separated by commas', '2')
-    .option('--space <space>', `fit space: ${FIT_DOMAINS.join(', ')}`, 'r')
+    .option('--fit-in <domain>', `fit in: ${FIT_DOMAINS.join(', ')}`, 'R')
     .option('--window <shape>', `k and R window shape (${WINDOW_SHAPES.join(', ')})`, 'hann')
     .option('--taper <width>', 'k window taper, 1/Å', '1')
     .option('--r-taper <width>', 'R window taper, Å', '0.5')
@@ -137,7 +137,7 @@ export function withDataAbsorber(options: RankOptionsBeforeData, chi: Chi, dataF
 export function parseRankOptions(raw: RankCliOptions, io: CliIo): { options: RankOptionsBeforeData; ranking: RankingOptions & { refineTop: number } } {
   if (!(WINDOW_SHAPES as readonly string[]).includes(raw.window)) throw new InputError(`unknown window '${raw.window}' (expected one of ${WINDOW_SHAPES.join(', ')})`, { key: '--window' });
   if ([raw.json, raw.markdown, raw.csv].filter(Boolean).length > 1) throw new InputError('give one of them only', { key: '--json, --markdown, --csv' });
-  if (!(FIT_DOMAINS as readonly string[]).includes(raw.space)) throw new InputError(`unknown fit space '${raw.space}' (expected one of ${FIT_DOMAINS.join(', ')})`, { key: '--space' });
+  if (!(FIT_DOMAINS as readonly string[]).includes(raw.fitIn)) throw new InputError(`unknown fit space '${raw.fitIn}' (expected one of ${FIT_DOMAINS.join(', ')})`, { key: '--fit-in' });
   const shape = raw.window as WindowShape;
   const disorderGiven = [raw.debyeTemp, raw.einsteinTemp, raw.msrd].filter((x) => x !== undefined).length;
   if (disorderGiven > 1) throw new InputError('give only one of --debye-temp, --einstein-temp and --msrd', { key: '--debye-temp' });
@@ -159,7 +159,7 @@ export function parseRankOptions(raw: RankCliOptions, io: CliIo): { options: Ran
     tolerance: parseNumber('--tolerance', raw.tolerance, { min: 0 }),
     rRange: parseRange('--r', raw.r),
     kWeightings,
-    space: raw.space as FitDomain,
+    fitIn: raw.fitIn as FitDomain,
     kTaper: { shape, taper: parseNumber('--taper', raw.taper, { min: 0 }) },
     rTaper: { shape, taper: parseNumber('--r-taper', raw.rTaper, { min: 0 }) },
     pathMargin: parseNumber('--margin', raw.margin, { min: 0 }),

@@ -30,7 +30,7 @@ export function studyFitText(result: StudyFitResult, prepared: PreparedStudy, di
   const lines: string[] = [`study ${prepared.study.file}${prepared.study.input.title ? `: ${prepared.study.input.title}` : ''} (${prepared.provider.name} scattering functions)`];
   for (const ds of prepared.datasets) {
     const d = ds.settings;
-    lines.push(`${several ? `${d.name}: ` : ''}fit of ${display(d.structure)} to ${display(d.data)} (${ds.pathSet.absorber} ${ds.pathSet.edge} edge, ${d.space} space, k ${d.kRange.join('-')} 1/Å, R ${d.rRange.join('-')} Å, k-weight ${d.kWeightings.join(',')}${d.temperature !== undefined ? `, ${d.temperature} K` : ''})`);
+    lines.push(`${several ? `${d.name}: ` : ''}fit of ${display(d.structure)} to ${display(d.data)} (${ds.pathSet.absorber} ${ds.pathSet.edge} edge, ${d.fitIn} space, k ${d.kRange.join('-')} 1/Å, R ${d.rRange.join('-')} Å, k-weight ${d.kWeightings.join(',')}${d.temperature !== undefined ? `, ${d.temperature} K` : ''})`);
     lines.push(`${several ? `${d.name}: ` : ''}${ds.data.reducedHere ? `data reduced here with default settings: E0 = ${ds.data.chi.e0.toFixed(2)} eV, edge step ${ds.data.chi.edgeStep.toPrecision(4)}` : 'data: saved reduction'}`);
   }
   lines.push(...fitResultLines(result, { showParameter: (n) => !perShell.has(n), datasetColumn: several, recipe: result.recipe }));

@@ -17,7 +17,7 @@ export interface StructureFitSettings {
   kRange: [number, number];
   rRange: [number, number];
   kWeightings: number[];
-  space: FitDomain;
+  fitIn: FitDomain;
   s0sq: number | 'free';
   kTaper: { shape: WindowShape; taper: number };
   rTaper: { shape: WindowShape; taper: number };
@@ -30,7 +30,7 @@ export const DEFAULT_FIT_SETTINGS: StructureFitSettings = {
   kRange: [3, 14],
   rRange: [1, 3.2],
   kWeightings: [2],
-  space: 'r',
+  fitIn: 'R',
   s0sq: 0.9,
   kTaper: { shape: 'hann', taper: 1 },
   rTaper: { shape: 'hann', taper: 0.5 },
@@ -51,7 +51,7 @@ export function fitStructure(chi: Chi, pathSet: PathSet, provider: ScatteringPro
   const tables = tablesForPaths(pathSet, recipe.paths, provider, s.kRange[1] + s.kTaper.taper);
   const problem = buildExafsProblem(recipe.parameters, [{
     name, k: chi.k, chi: chi.chi, noiseChi: chi.noise.k, paths: recipe.paths, tables, rules: recipe.rules,
-    kRange: s.kRange, kWeightings: s.kWeightings, kTaper: s.kTaper, rRange: s.rRange, rTaper: s.rTaper, space: s.space,
+    kRange: s.kRange, kWeightings: s.kWeightings, kTaper: s.kTaper, rRange: s.rRange, rTaper: s.rTaper, fitIn: s.fitIn,
   }]);
   const used = { ...s, provider: provider.name };
   const result = refine(problem, { starts: s.starts, maxIterations: s.maxIterations }, { ...used, recipe: recipe.description }, [...inputs, { role: 'paths', sha256: pathSet.provenance.id }]);

@@ -25,8 +25,8 @@ import { defineParameters, type ParameterSet, type ParameterSpec } from '../para
 import { independentPoints } from '../statistics';
 import { noiseBlock, type NoiseBlock } from '../noise-propagation';
 
-export type FitDomain = 'k' | 'r' | 'q';
-export const FIT_DOMAINS: readonly FitDomain[] = ['k', 'r', 'q'];
+export type FitDomain = 'k' | 'R' | 'q';
+export const FIT_DOMAINS: readonly FitDomain[] = ['k', 'R', 'q'];
 
 /** How one path's quantities follow from the parameters: each an expression (often just a name). */
 export interface PathRule {
@@ -56,7 +56,7 @@ export interface FitDataset {
   kTaper: { shape: WindowShape; taper: number };
   rRange: [number, number];
   rTaper: { shape: WindowShape; taper: number };
-  space: FitDomain;
+  fitIn: FitDomain;
 }
 
 /** A compiled, ready-to-evaluate refinement problem. */
@@ -195,7 +195,7 @@ export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets
       if (!(epsK > 0) || !Number.isFinite(epsK)) throw new InputError(`data set ${spec.name}: the noise estimate ${spec.noiseChi} is not a positive number`);
       return { kWeighting: w, epsK, epsR, epsQ };
     });
-    const perWeight = spec.space === 'r' ? 2 * rInside.length : kInside.length;
+    const perWeight = spec.fitIn === 'R' ? 2 * rInside.length : kInside.length;
     const length = perWeight * spec.kWeightings.length;
     const ind = independentPoints(spec.kRange[0], spec.kRange[1], rMin, rMax);
     nInd += ind;
@@ -224,7 +224,7 @@ export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets
     let row = d.offset;
     for (const noise of d.noise) {
       const w = noise.kWeighting;
-      if (d.spec.space === 'k') {
+      if (d.spec.fitIn === 'k') {
         for (const i of d.kInside) {
           const v = subtract ? column[i] - subtract[i] : column[i];
           out[row++ * stride + col] = (d.windowK[i] * Math.pow(d.modelK[i], w) * v) / noise.epsK;
@@ -233,7 +233,7 @@ export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets
       }
       const diff = subtract ? Float64Array.from(column, (v, i) => v - subtract[i]) : column;
       const spectrum = forwardTransform(d.modelK, diff, { kWeighting: w, window: d.kTaper });
-      if (d.spec.space === 'r') {
+      if (d.spec.fitIn === 'R') {
         const sigma = noise.epsR / Math.SQRT2;
         for (const j of d.rInside) out[row++ * stride + col] = spectrum.re[j] / sigma;
         for (const j of d.rInside) out[row++ * stride + col] = spectrum.im[j] / sigma;
@@ -325,7 +325,7 @@ export function buildExafsProblem(parameters: readonly ParameterSpec[], datasets
 /** Everything a noise block depends on (see {@link BuildOptions.noiseCache}). */
 function noiseKey(d: CompiledDataset): string {
   const k = d.modelK;
-  return JSON.stringify([d.spec.space, k.length, k[0], k[1] - k[0], d.spec.noiseChi, d.noise, d.kTaper, d.rTaper, d.kInside.length, d.rInside.length, d.length]);
+  return JSON.stringify([d.spec.fitIn, k.length, k[0], k[1] - k[0], d.spec.noiseChi, d.noise, d.kTaper, d.rTaper, d.kInside.length, d.rInside.length, d.length]);
 }
 
 /** Points of a data set's model grid that reach its residuals: the support of the k window. */
@@ -354,7 +354,7 @@ export function noiseMatrix(d: CompiledDataset): { columns: number[]; matrix: Fl
   const { offset: gridOffset } = uniformGridOffset(k);
   const nfft = 2048;
   let kernel: Float64Array | null = null;
-  if (d.spec.space === 'q') {
+  if (d.spec.fitIn === 'q') {
     const half = nfft / 2;
     const g = half - 1;
     const scale = dk / Math.sqrt(Math.PI);
@@ -376,7 +376,7 @@ export function noiseMatrix(d: CompiledDataset): { columns: number[]; matrix: Fl
   for (const noise of d.noise) {
     const w = noise.kWeighting;
     const weight = columns.map((i) => Math.pow(k[i], w) * d.windowK[i] * sigmaChi);
-    if (d.spec.space === 'k') {
+    if (d.spec.fitIn === 'k') {
       for (const i of d.kInside) {
         const col = columns.indexOf(i);
         if (col >= 0) matrix[row * c + col] = weight[col] / noise.epsK;
@@ -384,7 +384,7 @@ export function noiseMatrix(d: CompiledDataset): { columns: number[]; matrix: Fl
       }
       continue;
     }
-    if (d.spec.space === 'r') {
+    if (d.spec.fitIn === 'R') {
       const factor = dk / Math.sqrt(Math.PI) / (noise.epsR / Math.SQRT2);
       const dr = Math.PI / (nfft * dk);
       for (const part of [Math.cos, Math.sin]) {

@@ -467,7 +467,7 @@ export function prepareStudy(study: StudyFile, options: PrepareOptions): Prepare
     const fit: FitDataset = {
       name: d.name, k: ds.data.chi.k, chi: ds.data.chi.chi, noiseChi: ds.data.chi.noise.k, paths, tables,
       rules: shells.map((s) => s.expressions), s0sq: prepared[i].s0sq, e0: prepared[i].e0,
-      kRange: d.kRange, kWeightings: d.kWeightings, kTaper: d.kTaper, rRange: d.rRange, rTaper: d.rTaper, space: d.space,
+      kRange: d.kRange, kWeightings: d.kWeightings, kTaper: d.kTaper, rRange: d.rRange, rTaper: d.rTaper, fitIn: d.fitIn,
     };
     return { settings: d, data: ds.data, structure: ds.structure, pathSet: ds.pathSet, shells, fit };
   });

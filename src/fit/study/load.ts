@@ -51,7 +51,7 @@ export interface StudyDataset {
   kRange: [number, number];
   rRange: [number, number];
   kWeightings: number[];
-  space: FitDomain;
+  fitIn: FitDomain;
   kTaper: { shape: WindowShape; taper: number };
   rTaper: { shape: WindowShape; taper: number };
   s0sq: string;
@@ -148,7 +148,7 @@ function mergeDatasets(input: StudyInput, where: (path: KeyPath) => InputLocatio
       kRange: pick('k') ?? [...DEFAULT_FIT_SETTINGS.kRange],
       rRange: pick('r') ?? [...DEFAULT_FIT_SETTINGS.rRange],
       kWeightings: pick('kWeightings') ?? [...DEFAULT_FIT_SETTINGS.kWeightings],
-      space: (pick('space') ?? DEFAULT_FIT_SETTINGS.space) as FitDomain,
+      fitIn: (pick('fitIn') ?? DEFAULT_FIT_SETTINGS.fitIn) as FitDomain,
       kTaper: { shape: (kTaper.shape ?? DEFAULT_FIT_SETTINGS.kTaper.shape) as WindowShape, taper: kTaper.taper ?? DEFAULT_FIT_SETTINGS.kTaper.taper },
       rTaper: { shape: (rTaper.shape ?? DEFAULT_FIT_SETTINGS.rTaper.shape) as WindowShape, taper: rTaper.taper ?? DEFAULT_FIT_SETTINGS.rTaper.taper },
       s0sq: s0sq === undefined ? 's0sq' : String(s0sq),

@@ -31,7 +31,7 @@ export function runStudy(prepared: PreparedStudy): StudyFitResult {
     return {
       name: d.name,
       ...DEFAULT_FIT_SETTINGS,
-      kRange: d.kRange, rRange: d.rRange, kWeightings: d.kWeightings, space: d.space, s0sq: s0sqSetting,
+      kRange: d.kRange, rRange: d.rRange, kWeightings: d.kWeightings, fitIn: d.fitIn, s0sq: s0sqSetting,
       kTaper: d.kTaper, rTaper: d.rTaper, starts: prepared.refine.starts, maxIterations: prepared.refine.maxIterations,
       ...(d.temperature !== undefined ? { temperature: d.temperature } : {}),
     };

@@ -146,7 +146,7 @@ const datasetFields = {
   r: rangeSchema('Å', 0, MAX_STUDY_R).optional(),
   kWeightings: z.union([z.number().min(0).max(4), z.array(z.number().min(0).max(4)).min(1).max(8)], { error: 'expected a k-weight (0-4) or a list of them' })
     .transform((w) => (typeof w === 'number' ? [w] : w)).optional(),
-  space: z.enum(FIT_DOMAINS as [string, ...string[]]).optional(),
+  fitIn: z.enum(FIT_DOMAINS as [string, ...string[]]).optional(),
   kTaper: windowSchema.optional(),
   rTaper: windowSchema.optional(),
   /** Expressions for this data set's S0^2 and E0 shift (default the parameters s0sq and e0). */
