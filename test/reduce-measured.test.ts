@@ -73,7 +73,7 @@ describe('reduction of measured spectra', () => {
     expect(r.e0).toMatchObject({ method: 'smoothed-derivative maximum', tabulatedEdge: edgeOf('Cu', 'K').energy });
     expect(r.preEdge).toMatchObject({ requested: [-150, -30], order: 1 });
     expect(r.postEdge).toMatchObject({ requested: [150, null], order: 2 });
-    expect(r.background).toMatchObject({ cutoffR: 1, kWeighting: 2, clampLow: 0, clampHigh: 1 });
+    expect(r.background).toMatchObject({ cutoffR: 1, kWeighting: 2, endWeightLow: 0, endWeightHigh: 1 });
     // Nyquist knot spacing pi / (2 R_bkg) (Newville et al. 1993) is an upper bound on the spacing
     expect(r.background.knotSpacing).toBeLessThanOrEqual(Math.PI / 2 + 1e-12);
     expect(r.kGrid).toMatchObject({ step: 0.05, min: 0 });

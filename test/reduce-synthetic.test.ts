@@ -135,7 +135,7 @@ describe('kernels against oracles', () => {
     const k = Float64Array.from({ length: 301 }, (_, i) => i / 20);
     const energy = k.map((q) => 8979 + (q * q) / K2_PER_EV);
     const norm = interpolateCubic(scan.energy, scan.mu.map((m) => m / 1.2), energy);
-    const settings = { ...DEFAULT_BACKGROUND, clampHigh: 0, regularisation: 0 };
+    const settings = { ...DEFAULT_BACKGROUND, endWeightHigh: 0, regularisation: 0 };
     const fit = fitBackground(k, norm, settings);
     const ft = forwardTransform(k, fit.chi, { kWeighting: 2, window: { shape: 'hann', min: 0, max: 15, taper: 1 }, nfft: BACKGROUND_NFFT });
     const mag = magnitude(ft);

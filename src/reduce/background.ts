@@ -12,8 +12,8 @@
  * - Residual rows: the real and imaginary parts of
  *   chi(R_m) = (dk / sqrt(pi)) sum_i k_i^w W(k_i) (norm_i - mu0(k_i)) exp(2 i k_i R_m)
  *   for R_m = m dR <= R_bkg, with dR the grid of a 2048-point FFT; these are linear in c.
- * - Optional clamps: rows pulling chi towards 0 at the first / last `clampPoints` grid points,
- *   with weight `clampLow` / `clampHigh` relative to the size of one transform row.
+ * - Optional end weights: rows pulling chi towards 0 at the first / last `endWeightPoints` grid points,
+ *   with weight `endWeightLow` / `endWeightHigh` relative to the size of one transform row.
  * - A weak smoothing term, `regularisation` times the rows (norm_i - mu0(k_i)), keeps the
  *   coefficients that the windowed transform barely sees (near k = 0 where k^w vanishes)
  *   close to a plain least-squares spline through the data instead of undetermined.
@@ -39,11 +39,11 @@ export interface BackgroundSettings {
   /** Window of the minimised transform and its taper (1/Å); default hann, taper 1 (window 1/2 at kMin and kMax). */
   windowShape: WindowShape;
   windowTaper: number;
-  /** Clamp weights at the low and high end (0: off); defaults 0 and 1. */
-  clampLow: number;
-  clampHigh: number;
-  /** Number of grid points each clamp covers; default 6. */
-  clampPoints: number;
+  /** End weights at the low and high end (0: off); defaults 0 and 1. */
+  endWeightLow: number;
+  endWeightHigh: number;
+  /** Number of grid points each end weight covers; default 6. */
+  endWeightPoints: number;
   /** Weight of the smoothing term relative to one transform row; default 0.05. */
   regularisation: number;
   /** Largest knot spacing, 1/Å; null: pi / (2 R_bkg), the Nyquist spacing of the cutoff. */
@@ -57,9 +57,9 @@ export const DEFAULT_BACKGROUND: BackgroundSettings = {
   kMax: null,
   windowShape: 'hann',
   windowTaper: 1,
-  clampLow: 0,
-  clampHigh: 1,
-  clampPoints: 6,
+  endWeightLow: 0,
+  endWeightHigh: 1,
+  endWeightPoints: 6,
   regularisation: 0.05,
   knotSpacing: null,
 };
@@ -103,10 +103,10 @@ export function fitBackground(k: Float64Array, norm: Float64Array, settings: Bac
   const rCount = Math.floor(settings.cutoffR / dR + 1e-9) + 1;
   const scale = dk / Math.sqrt(Math.PI);
 
-  // rows: 2 per R point, then clamps, then smoothing rows
-  const clampRows = (settings.clampLow > 0 ? settings.clampPoints : 0) + (settings.clampHigh > 0 ? settings.clampPoints : 0);
+  // rows: 2 per R point, then end weights, then smoothing rows
+  const endWeightRows = (settings.endWeightLow > 0 ? settings.endWeightPoints : 0) + (settings.endWeightHigh > 0 ? settings.endWeightPoints : 0);
   const smoothRows = settings.regularisation > 0 ? last - first + 1 : 0;
-  const rows = 2 * rCount + clampRows + smoothRows;
+  const rows = 2 * rCount + endWeightRows + smoothRows;
   const a = new Float64Array(rows * nb);
   const b = new Float64Array(rows);
   const v = new Float64Array(4);
@@ -172,8 +172,8 @@ export function fitBackground(k: Float64Array, norm: Float64Array, settings: Bac
     b[row] = weight * norm[i];
     row++;
   };
-  if (settings.clampLow > 0) for (let p = 0; p < settings.clampPoints; p++) addPointRow(first + p, settings.clampLow * typicalRow);
-  if (settings.clampHigh > 0) for (let p = 0; p < settings.clampPoints; p++) addPointRow(last - p, settings.clampHigh * typicalRow);
+  if (settings.endWeightLow > 0) for (let p = 0; p < settings.endWeightPoints; p++) addPointRow(first + p, settings.endWeightLow * typicalRow);
+  if (settings.endWeightHigh > 0) for (let p = 0; p < settings.endWeightPoints; p++) addPointRow(last - p, settings.endWeightHigh * typicalRow);
   if (settings.regularisation > 0) {
     const w = (settings.regularisation * typicalRow) / Math.sqrt(last - first + 1);
     for (let i = first; i <= last; i++) addPointRow(i, w);

@@ -135,8 +135,8 @@ export function resolveReductionSettings(options: ReductionOptions = {}): Reduct
   if (!(b.kWeighting >= 0 && b.kWeighting <= 4)) throw bad('background.kWeighting', `the k-weight must lie between 0 and 4, got ${b.kWeighting}`);
   if (!(b.kMin >= 0)) throw bad('background.kMin', `kMin must be at least 0, got ${b.kMin}`);
   if (b.kMax !== null && !(b.kMax > b.kMin + 1)) throw bad('background.kMax', `kMax must exceed kMin by at least 1 1/Å`);
-  if (!(b.clampLow >= 0) || !(b.clampHigh >= 0)) throw bad('clamp', 'clamp weights must be non-negative');
-  if (!(Number.isInteger(b.clampPoints) && b.clampPoints >= 1)) throw bad('clampPoints', 'clampPoints must be a whole number >= 1');
+  if (!(b.endWeightLow >= 0) || !(b.endWeightHigh >= 0)) throw bad('endWeights', 'end weights must be non-negative');
+  if (!(Number.isInteger(b.endWeightPoints) && b.endWeightPoints >= 1)) throw bad('endWeightPoints', 'endWeightPoints must be a whole number >= 1');
   if (!(b.regularisation >= 0)) throw bad('regularisation', 'the regularisation must be non-negative');
   if (b.knotSpacing !== null && !(b.knotSpacing > 0)) throw bad('knotSpacing', 'the knot spacing must be positive');
   if (s.kMax !== null && !(s.kMax > 2)) throw bad('kMax', `kMax must exceed 2 1/Å, got ${s.kMax}`);
@@ -312,9 +312,9 @@ export function reduceScan(input: Scan, options: ReductionOptions = {}): Reducti
       kRange: [bkg.basis.a, bkg.basis.b],
       kWeighting: settings.background.kWeighting,
       window: { shape: settings.background.windowShape, taper: settings.background.windowTaper },
-      clampLow: settings.background.clampLow,
-      clampHigh: settings.background.clampHigh,
-      clampPoints: settings.background.clampPoints,
+      endWeightLow: settings.background.endWeightLow,
+      endWeightHigh: settings.background.endWeightHigh,
+      endWeightPoints: settings.background.endWeightPoints,
       regularisation: settings.background.regularisation,
       standard: options.standard ? 'theoretical chi(k) given: the low-R transform is matched to it' : null,
       lowRPoints: bkg.rPoints,

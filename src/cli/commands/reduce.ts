@@ -26,7 +26,7 @@ interface ReduceCliOptions {
   postOrder?: string;
   kWeighting?: string;
   kMax?: string;
-  clamps?: string;
+  endWeights?: string;
   signal?: string;
   columns?: string;
   energyUnit?: string;
@@ -98,11 +98,11 @@ function reductionOptions(o: ReduceCliOptions): ReductionOptions {
   if (o.postOrder !== undefined) r.normalisation!.postEdgeOrder = parseInteger('--post-order', o.postOrder);
   if (o.kWeighting !== undefined) r.background!.kWeighting = parseNumber('--k-weight', o.kWeighting, { min: 0, max: 4 });
   if (o.kMax !== undefined) r.kMax = parseNumber('--k-max', o.kMax, { min: 2, exclusiveMin: true });
-  if (o.clamps !== undefined) {
-    const parts = o.clamps.split(':');
-    if (parts.length !== 2) throw new InputError(`expected LOW:HIGH clamp weights, got '${o.clamps}'`, { key: '--clamps' });
-    r.background!.clampLow = parseNumber('--clamps', parts[0], { min: 0 });
-    r.background!.clampHigh = parseNumber('--clamps', parts[1], { min: 0 });
+  if (o.endWeights !== undefined) {
+    const parts = o.endWeights.split(':');
+    if (parts.length !== 2) throw new InputError(`expected LOW:HIGH end weights, got '${o.endWeights}'`, { key: '--end-weights' });
+    r.background!.endWeightLow = parseNumber('--end-weights', parts[0], { min: 0 });
+    r.background!.endWeightHigh = parseNumber('--end-weights', parts[1], { min: 0 });
   }
   if (o.glitch !== undefined) r.glitches!.energies = o.glitch.split(',').map((s) => parseNumber('--glitch', s));
   if (o.findGlitches) r.glitches!.detect = true;
@@ -172,7 +172,7 @@ function summary(file: string, chi: Chi, merge: MergeResult | null, scans: Scan[
   lines.push(`pre-edge: E0 ${r.preEdge.used[0].toFixed(1)} to ${r.preEdge.used[1].toFixed(1)} eV, order ${r.preEdge.order}, ${r.preEdge.points} points${r.preEdge.shortPreEdge ? ' (short pre-edge: from the first point of the scan)' : r.preEdge.clipped ? ' (range clipped to the data)' : ''}`);
   lines.push(`post-edge: E0 +${r.postEdge.used[0].toFixed(1)} to +${r.postEdge.used[1].toFixed(1)} eV, order ${r.postEdge.order}, ${r.postEdge.points} points${r.postEdge.clipped ? ' (range clipped to the data)' : ''}`);
   const b = r.background;
-  lines.push(`background: cutoff ${b.cutoffR} Å, ${b.basisFunctions} cubic B-splines, knot spacing ${b.knotSpacing.toFixed(3)} Å⁻¹, k ${b.kRange[0]}-${b.kRange[1].toFixed(2)} Å⁻¹, k-weight ${b.kWeighting}, clamps ${b.clampLow}/${b.clampHigh} over ${b.clampPoints} points`);
+  lines.push(`background: cutoff ${b.cutoffR} Å, ${b.basisFunctions} cubic B-splines, knot spacing ${b.knotSpacing.toFixed(3)} Å⁻¹, k ${b.kRange[0]}-${b.kRange[1].toFixed(2)} Å⁻¹, k-weight ${b.kWeighting}, end weights ${b.endWeightLow}/${b.endWeightHigh} over ${b.endWeightPoints} points`);
   lines.push(`chi(k): ${chi.k.length} points, k 0-${chi.k[chi.k.length - 1].toFixed(2)} Å⁻¹ in steps of 0.05`);
   lines.push(`noise: ${chi.noise.k.toExponential(2)} per point in chi(k); |chi(R)| ${chi.noise.r.toExponential(2)} (R ${chi.noise.rRange[0]}-${chi.noise.rRange[1]} Å, k-weight ${chi.noise.kWeighting})`);
   if (r.glitches.length) lines.push(`glitches removed: ${r.glitches.map((g: any) => `${g.energy} eV (line ${g.line}, ${g.reason})`).join(', ')}`);
@@ -192,7 +192,7 @@ export function registerReduce(program: Command, io: CliIo): void {
     .option('--post-order <n>', 'post-edge polynomial order (default 2)')
     .option('--k-weight <w>', 'k-weight of the background fit (default 2)')
     .option('--k-max <1/Å>', 'end of the chi(k) grid (default: the end of the data)')
-    .option('--clamps <low:high>', 'background clamp weights at the low and high k ends (default 0:1)')
+    .option('--end-weights <low:high>', 'background end weights at the low and high k ends (default 0:1)')
     .option('--signal <kind>', 'transmission, fluorescence or mu (default: from the columns)')
     .option('--columns <role=name,...>', `column roles (${ROLES.join(', ')})`)
     .option('--energy-unit <unit>', 'eV or keV (default: detected)')
