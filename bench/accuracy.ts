@@ -258,7 +258,7 @@ function measure(c: Compound, provider: ReturnType<typeof firstPrinciplesProvide
 
 const provider = firstPrinciplesProvider({ cache: !args.includes('--no-cache'), settings });
 /**
- * Sensitivity to the background: the same fit on reductions with the background cutoff R_bkg
+ * Sensitivity to the background: the same fit on reductions with the background cutoff R_cut
  * moved from its value (default 1.0 Å) by -0.1 and +0.1 Å. A first shell whose fitted distance
  * moves by more than a few 0.001 Å here is limited by the background removal, not by the
  * scattering functions.
@@ -284,7 +284,7 @@ const cell = (x: unknown) => (x === null || x === undefined ? '—' : String(x))
 const markdown = [
   `First-shell fits (${label}): k ${K_RANGE.join('-')} 1/Å, k^2, R space, S0^2 free; R = occupancy-weighted mean first-shell distance, Å.`,
   '',
-  `| spectrum | first shell (crystal) | R crystal | R fit | dR | S0^2 | e0 (eV) | msrd (Å^2) | R-factor | corr(e0, dR) | dR at R_bkg ${CUTOFF_STEPS.map((d) => (baseCutoff + d).toFixed(1)).join(' / ')} |`,
+  `| spectrum | first shell (crystal) | R crystal | R fit | dR | S0^2 | e0 (eV) | msrd (Å^2) | R-factor | corr(e0, dR) | dR at R_cut ${CUTOFF_STEPS.map((d) => (baseCutoff + d).toFixed(1)).join(' / ')} |`,
   '|---|---|---|---|---|---|---|---|---|---|---|',
   ...rows.map((r) => 'refused' in r
     ? `| ${r.compound} | refused: ${r.refused!.replace(/\|/g, '/')} ||||||||||`

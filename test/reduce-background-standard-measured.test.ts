@@ -6,7 +6,7 @@
  * (1970), from memory; room temperature), first shell 2 + 2 O at 1.951 and 1.961 Å.
  * Fit protocol as bench/accuracy.ts: k 3-12, k^2, R space over [R1 - 0.9, R1 + 0.25] Å (R1 the nearest Cu-O distance), S0^2, e0, one dr
  * and one msrd for the 4 O, the shells up to 2.71 Å with their own r and msrd.
- * Property: the first-shell distance no longer depends on the background cutoff R_bkg.
+ * Property: the first-shell distance no longer depends on the background cutoff R_cut.
  */
 import { describe, expect, it } from 'vitest';
 import { mkdtempSync, rmSync } from 'node:fs';
@@ -34,7 +34,7 @@ const CIF = ['data_CuO', '_cell_length_a 4.6837', '_cell_length_b 3.4226', '_cel
   'Cu1 0.25 0.25 0', 'O1 0 0.4184 0.25'].join('\n');
 
 describe('CuO 13 K: background with the fitted model as standard', () => {
-  it('gives a first-shell distance that does not follow R_bkg 0.9-1.1 Å (without it, it does)', () => {
+  it('gives a first-shell distance that does not follow R_cut 0.9-1.1 Å (without it, it does)', () => {
     const folder = mkdtempSync(join(tmpdir(), 'shellrank-bkgstd-'));
     try {
       const provider = firstPrinciplesProvider({ cacheDir: folder });
@@ -76,7 +76,7 @@ describe('CuO 13 K: background with the fitted model as standard', () => {
       // measured (bench/accuracy/variants.md): 0.045 Å without, 0.005 Å with the standard
       expect(spread(plain)).toBeGreaterThan(0.03);
       expect(spread(refined)).toBeLessThan(0.015);
-      // within 0.015 Å of the crystal's mean Cu-O distance at every R_bkg (measured +0.002-0.007)
+      // within 0.015 Å of the crystal's mean Cu-O distance at every R_cut (measured +0.002-0.007)
       for (const dr of refined) expect(Math.abs(dr)).toBeLessThan(0.015);
     } finally {
       rmSync(folder, { recursive: true, force: true });

@@ -2,7 +2,7 @@
  * Background refined against a theoretical standard (Newville et al., Phys. Rev. B 47, 14126
  * (1993)): on invented data with a known answer (src/reduce/synthetic.ts: a short first shell,
  * 4 neighbours at 1.95 Å, on a smooth arctangent edge with a quadratic post-edge), the background
- * matched to zero below R_bkg takes part of the shell's low-R leak, and the one matched to the
+ * matched to zero below R_cut takes part of the shell's low-R leak, and the one matched to the
  * shell's own chi(k) does not, while the shell's |chi(R)| peak survives.
  */
 import { describe, expect, it } from 'vitest';

@@ -74,7 +74,7 @@ describe('reduction of measured spectra', () => {
     expect(r.preEdge).toMatchObject({ requested: [-150, -30], order: 1 });
     expect(r.postEdge).toMatchObject({ requested: [150, null], order: 2 });
     expect(r.background).toMatchObject({ cutoffR: 1, kWeighting: 2, endWeightLow: 0, endWeightHigh: 1 });
-    // Nyquist knot spacing pi / (2 R_bkg) (Newville et al. 1993) is an upper bound on the spacing
+    // Nyquist knot spacing pi / (2 R_cut) (Newville et al. 1993) is an upper bound on the spacing
     expect(r.background.knotSpacing).toBeLessThanOrEqual(Math.PI / 2 + 1e-12);
     expect(r.kGrid).toMatchObject({ step: 0.05, min: 0 });
     expect(chi.k[1] - chi.k[0]).toBeCloseTo(0.05, 12);

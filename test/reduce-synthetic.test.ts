@@ -145,7 +145,7 @@ describe('kernels against oracles', () => {
     // and the minimisation did its job: far less low-R content than the data had
     expect(fit.lowRAfter).toBeLessThan(1e-3 * fit.lowRBefore);
   });
-  it('the knot count follows N = 2 R_bkg dk / pi (Newville et al. 1993), rounded up to whole intervals', () => {
+  it('the knot count follows N = 2 R_cut dk / pi (Newville et al. 1993), rounded up to whole intervals', () => {
     const k = Float64Array.from({ length: 301 }, (_, i) => i / 20);
     const norm = k.map((q) => 1 + 0.01 * q);
     for (const cutoffR of [0.8, 1.0, 1.3]) {

@@ -1,17 +1,17 @@
 /**
  * Background removal after Newville, Livins, Yacoby, Rehr and Stern, Phys. Rev. B 47, 14126
  * (1993): the smooth atomic absorption mu0 is a spline in k whose knots are too far apart to
- * carry Fourier components above a cutoff distance R_bkg, and whose coefficients minimise the
- * part of the transform of chi = norm - mu0 below R_bkg, where no real scattering shell can sit.
+ * carry Fourier components above a cutoff distance R_cut, and whose coefficients minimise the
+ * part of the transform of chi = norm - mu0 below R_cut, where no real scattering shell can sit.
  *
  * Method used here (all linear, so one least-squares solve):
  * - mu0(k) = sum_j c_j B_j(k), uniform cubic B-splines on [kMin, kMax]. The knot spacing is at
- *   most pi / (2 R_bkg): the Nyquist count of the paper, N = 2 R_bkg (kMax - kMin) / pi + 1
- *   independent values, so the spline can follow every Fourier component up to R_bkg and
+ *   most pi / (2 R_cut): the Nyquist count of the paper, N = 2 R_cut (kMax - kMin) / pi + 1
+ *   independent values, so the spline can follow every Fourier component up to R_cut and
  *   nothing much beyond (transform convention exp(2ikR), src/numeric/fourier.ts).
  * - Residual rows: the real and imaginary parts of
  *   chi(R_m) = (dk / sqrt(pi)) sum_i k_i^w W(k_i) (norm_i - mu0(k_i)) exp(2 i k_i R_m)
- *   for R_m = m dR <= R_bkg, with dR the grid of a 2048-point FFT; these are linear in c.
+ *   for R_m = m dR <= R_cut, with dR the grid of a 2048-point FFT; these are linear in c.
  * - Optional end weights: rows pulling chi towards 0 at the first / last `endWeightPoints` grid points,
  *   with weight `endWeightLow` / `endWeightHigh` relative to the size of one transform row.
  * - A weak smoothing term, `regularisation` times the rows (norm_i - mu0(k_i)), keeps the
@@ -20,7 +20,7 @@
  * - Optional standard (same paper): a theoretical chi_std(k) on the same grid; the
  *   transform rows then take norm - chi_std, so the low-R part of chi(R) is made to match that of
  *   the standard instead of zero. A short first shell (metal-oxygen ~1.9-2.0 Å) leaks through the
- *   window and the k-weight below R_bkg; driven to zero, that leak is taken into mu0 and shifts
+ *   window and the k-weight below R_cut; driven to zero, that leak is taken into mu0 and shifts
  *   the fitted shell. With the fitted model as standard the leak stays in chi.
  */
 import { windowOnGrid, type WindowShape } from '../numeric/window';
@@ -28,7 +28,7 @@ import { basisAt, evaluateSpline, uniformCubicBasis, type UniformCubicBasis } fr
 import { solveLeastSquares } from './least-squares';
 
 export interface BackgroundSettings {
-  /** Cutoff distance R_bkg, Å; default 1.0. */
+  /** Cutoff distance R_cut, Å; default 1.0. */
   cutoffR: number;
   /** k-weight of the transform that is minimised; default 2. */
   kWeighting: number;
@@ -46,7 +46,7 @@ export interface BackgroundSettings {
   endWeightPoints: number;
   /** Weight of the smoothing term relative to one transform row; default 0.05. */
   regularisation: number;
-  /** Largest knot spacing, 1/Å; null: pi / (2 R_bkg), the Nyquist spacing of the cutoff. */
+  /** Largest knot spacing, 1/Å; null: pi / (2 R_cut), the Nyquist spacing of the cutoff. */
   knotSpacing: number | null;
 }
 
@@ -76,7 +76,7 @@ export interface BackgroundFit {
   chi: Float64Array;
   /** Number of R points (each giving a real and an imaginary row) in the minimised transform. */
   rPoints: number;
-  /** rms |chi(R)| over R <= R_bkg of the normalised data itself (before) and of chi (after the fit). */
+  /** rms |chi(R)| over R <= R_cut of the normalised data itself (before) and of chi (after the fit). */
   lowRBefore: number;
   lowRAfter: number;
 }

@@ -57,7 +57,7 @@ export interface ReductionOptions {
   /**
    * A theoretical chi(k) on the reduction's k grid (k_i = i / 20 1/Å, from 0): the background then
    * makes the low-R transform of chi match that of this standard instead of zero (Newville et al.
-   * 1993), so the tail of a short first shell below R_bkg is not taken into the background.
+   * 1993), so the tail of a short first shell below R_cut is not taken into the background.
    */
   standard?: Float64Array | null;
 }

@@ -185,7 +185,7 @@ export function registerReduce(program: Command, io: CliIo): void {
     .description('reduce measured mu(E) (XDI or plain/CSV columns) to chi(k); several files are aligned and merged first')
     .argument('<files...>', 'measured scans (XDI, or columns with a header line)')
     .option('--e0 <eV>', 'edge energy E0 (default: maximum of the smoothed derivative)')
-    .option('--bkg-cutoff <Å>', 'background cutoff distance R_bkg', '1.0')
+    .option('--bkg-cutoff <Å>', 'background cutoff distance R_cut', '1.0')
     .option('--pre-edge <lo:hi>', 'pre-edge range in eV from E0 (default -150:-30)')
     .option('--post-edge <lo:hi>', "post-edge range in eV from E0, 'end' for the scan's end (default 150:end)")
     .option('--pre-order <n>', 'pre-edge polynomial order (default 1)')
