@@ -65,7 +65,7 @@ describe('XDI output of the normalised data', () => {
   it('reads back through the XDI reader with identical columns and the reduction fields', () => {
     const text = normalisedToXdi(chi);
     const doc = parseXdi(text, 'norm.xdi');
-    expect(doc.labels).toEqual(['energy', 'mutrans', 'pre_edge', 'post_edge', 'background', 'normtrans', 'flat']);
+    expect(doc.labels).toEqual(['energy', 'mutrans', 'pre_edge', 'post_edge', 'background', 'normtrans', 'detrended']);
     expect(Array.from(doc.table.columns[0])).toEqual(Array.from(chi.normalised!.energy));
     expect(Array.from(doc.table.columns[5])).toEqual(Array.from(chi.normalised!.normalised));
     expect(Number(doc.fields['Reduction.edge_step'])).toBe(chi.edgeStep);

@@ -14,7 +14,7 @@
  *       "noise": { "k": rms of chi per point, "r": rms |chi(R)| (Å^-(w+1)), "kWeighting": w,
  *                  "kRange": [1/Å, 1/Å], "rRange": [Å, Å], "windowShape": "hann", "windowTaper": 1/Å },
  *       "normalised": null | { "energy": [eV], "mu": [], "preEdge": [], "postEdge": [],
- *                  "normalised": [], "flattened": [], "background": [mu units; pre-edge line below E0] },
+ *                  "normalised": [], "detrended": [], "background": [mu units; pre-edge line below E0] },
  *       "reduction": { ... every reduction choice and result, see ReductionReport ... },
  *       "source": { "file", "sha256", "format", "signal", "muFormula", "energyAxis", "history" },
  *       "warnings": [ "one line each" ],
@@ -39,7 +39,7 @@ export interface NormalisedSpectrum {
   preEdge: Float64Array;
   postEdge: Float64Array;
   normalised: Float64Array;
-  flattened: Float64Array;
+  detrended: Float64Array;
   /** mu0(E) in mu units: pre-edge line + step * spline above E0, the pre-edge line below. */
   background: Float64Array;
 }
@@ -202,7 +202,7 @@ const CHI_SCHEMA = z.object({
     windowTaper: z.number(),
   }),
   normalised: z
-    .object({ energy: numbers, mu: numbers, preEdge: numbers, postEdge: numbers, normalised: numbers, flattened: numbers, background: numbers })
+    .object({ energy: numbers, mu: numbers, preEdge: numbers, postEdge: numbers, normalised: numbers, detrended: numbers, background: numbers })
     .nullable(),
   reduction: z.record(z.string(), z.unknown()),
   source: z

@@ -7,7 +7,7 @@
  *   parabola through its neighbours.
  * - Pre-edge: a polynomial (default a line) fitted to mu over [E0 + pre1, E0 + pre2] and extended
  *   over the whole scan. Post-edge: a polynomial (default quadratic) over [E0 + post1, E0 + post2].
- * - Edge step: post(E0) - pre(E0). Normalised mu: (mu - pre(E)) / step. Flattened mu: the
+ * - Edge step: post(E0) - pre(E0). Normalised mu: (mu - pre(E)) / step. Detrended mu: the
  *   normalised mu with the post-edge polynomial's departure from a flat step removed above E0,
  *   norm - ((post(E) - pre(E)) / step - 1) for E >= E0.
  */
@@ -140,8 +140,8 @@ export interface Normalisation {
   postLine: Float64Array;
   /** (mu - pre) / step. */
   normalised: Float64Array;
-  /** Normalised mu flattened above E0. */
-  flattened: Float64Array;
+  /** Normalised mu detrended above E0. */
+  detrended: Float64Array;
 }
 
 function fitEdgeLine(
@@ -174,7 +174,7 @@ function fitEdgeLine(
 }
 
 /**
- * Pre-edge line, post-edge polynomial, edge step, normalised and flattened mu.
+ * Pre-edge line, post-edge polynomial, edge step, normalised and detrended mu.
  * `postSource` (default mu) is what the post-edge polynomial is fitted to: the refinement passes
  * the smooth background mu0(E) here.
  * @throws InputError naming the range when it holds too few points, or when the step is not positive.
@@ -204,10 +204,10 @@ export function normalise(
     );
   }
   const normalised = new Float64Array(n);
-  const flattened = new Float64Array(n);
+  const detrended = new Float64Array(n);
   for (let i = 0; i < n; i++) {
     normalised[i] = (mu[i] - preLine[i]) / edgeStep;
-    flattened[i] = energy[i] >= e0 ? normalised[i] - ((postLine[i] - preLine[i]) / edgeStep - 1) : normalised[i];
+    detrended[i] = energy[i] >= e0 ? normalised[i] - ((postLine[i] - preLine[i]) / edgeStep - 1) : normalised[i];
   }
-  return { e0, edgeStep, preEdge: pre, postEdge: post, preLine, postLine, normalised, flattened };
+  return { e0, edgeStep, preEdge: pre, postEdge: post, preLine, postLine, normalised, detrended };
 }

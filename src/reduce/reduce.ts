@@ -7,7 +7,7 @@
  * 3. E0: given, or the maximum of the smoothed derivative (edge.ts); the smoothing width defaults
  *    to half the core-level width of the edge (xraylib 4.0.0, src/elements/table.ts), since the
  *    core-hole lifetime already broadens every edge feature by that much, or 0.5 eV when unknown;
- * 4. pre-edge line, post-edge polynomial, edge step, normalised and flattened mu (edge.ts);
+ * 4. pre-edge line, post-edge polynomial, edge step, normalised and detrended mu (edge.ts);
  * 5. normalised mu interpolated onto k = 0, 0.05, ... 1/Å with k = sqrt(0.2624683 (E - E0))
  *    (CODATA 2018, src/core/constants.ts), piecewise cubic (interpolate.ts);
  * 6. background spline minimising the low-R transform (Newville et al., Phys. Rev. B 47, 14126
@@ -344,7 +344,7 @@ export function reduceScan(input: Scan, options: ReductionOptions = {}): Reducti
       preEdge: norm.preLine,
       postEdge: norm.postLine,
       normalised: norm.normalised,
-      flattened: norm.flattened,
+      detrended: norm.detrended,
       background,
     },
     reduction,

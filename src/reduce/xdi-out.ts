@@ -1,6 +1,6 @@
 /**
  * XDI output of normalised data: energy, mu, pre-edge line, post-edge polynomial, background,
- * normalised and flattened mu as columns of an XDI 1.0 file (src/read/spectrum/xdi.ts), with the
+ * normalised and detrended mu as columns of an XDI 1.0 file (src/read/spectrum/xdi.ts), with the
  * source file's metadata fields kept and the reduction's choices in a `Reduction` family.
  */
 import { formatXdi } from '../read/spectrum/xdi';
@@ -30,8 +30,8 @@ export function normalisedToXdi(chi: Chi): string {
   return formatXdi({
     fields,
     comments: 'normalised mu(E) written by shellrank reduce',
-    labels: ['energy', `mu${signal}`, 'pre_edge', 'post_edge', 'background', `norm${signal}`, 'flat'],
+    labels: ['energy', `mu${signal}`, 'pre_edge', 'post_edge', 'background', `norm${signal}`, 'detrended'],
     units: ['eV', null, null, null, null, null, null],
-    columns: [n.energy, n.mu, n.preEdge, n.postEdge, n.background, n.normalised, n.flattened],
+    columns: [n.energy, n.mu, n.preEdge, n.postEdge, n.background, n.normalised, n.detrended],
   });
 }
