@@ -21,7 +21,7 @@ interface ScatterCliOptions {
   kMax: string;
   kStep: string;
   overlap: string;
-  exchange: string;
+  selfEnergy: string;
   json?: boolean;
   plot?: string;
   cache: boolean;
@@ -39,7 +39,7 @@ export function registerScatter(program: Command, io: CliIo): void {
     .option('--k-max <invA>', 'largest k of the grid, 1/Å', '20')
     .option('--k-step <invA>', 'k grid step, 1/Å', '0.25')
     .option('--overlap <fraction>', 'muffin-tin sphere overlap', '0.1')
-    .option('--exchange <model>', `photoelectron self-energy model (${EXCHANGE_MODELS.join(', ')})`, DEFAULT_FIRST_PRINCIPLES_SETTINGS.exchange)
+    .option('--self-energy <model>', `photoelectron self-energy model (${EXCHANGE_MODELS.join(', ')})`, DEFAULT_FIRST_PRINCIPLES_SETTINGS.exchange)
     .option('--json', 'write JSON {"k", "amplitude", "phase", "meanFreePath", ...}')
     .option('--plot <file.svg>', 'also write an SVG plot of the three functions')
     .option('--no-cache', 'neither read nor write the scattering cache')
@@ -52,8 +52,8 @@ export function registerScatter(program: Command, io: CliIo): void {
       const kMax = parseNumber('--k-max', raw.kMax, { min: 1, max: 30 });
       const kStep = parseNumber('--k-step', raw.kStep, { min: 0.001, max: 5 });
       const overlap = parseNumber('--overlap', raw.overlap, { min: 0, max: 0.4 });
-      const exchange = raw.exchange as ExchangeModel;
-      if (!EXCHANGE_MODELS.includes(exchange)) throw new InputError(`must be one of ${EXCHANGE_MODELS.join(', ')}, got '${raw.exchange}'`, { key: '--exchange' });
+      const exchange = raw.selfEnergy as ExchangeModel;
+      if (!EXCHANGE_MODELS.includes(exchange)) throw new InputError(`must be one of ${EXCHANGE_MODELS.join(', ')}, got '${raw.selfEnergy}'`, { key: '--self-energy' });
       const n = Math.floor(kMax / kStep + 1e-9) + 1;
       const k = new Float64Array(n).map((_, i) => Number((i * kStep).toPrecision(12)));
       const provider = firstPrinciplesProvider({ cache: raw.cache, settings: { overlap, exchange } });
