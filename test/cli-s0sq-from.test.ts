@@ -14,7 +14,7 @@ const cuP1 = join(REPO, 'test/fixtures/structures/cu-p1.cif');
 
 describe('--s0sq-from and the status of the reference fit', () => {
   it('refuses a reference fit stopped before convergence and accepts a converged one', async () => {
-    const dir = mkdtempSync(join(tmpdir(), 'shellrank-amp-from-'));
+    const dir = mkdtempSync(join(tmpdir(), 'shellrank-s0sq-from-'));
     const base = ['fit', cuData, cuP1, '--absorber', 'Cu', '--s0sq', 'free', '--r', '1.5:3', '--provider', 'parametric', '--json'];
     const stopped = join(dir, 'stopped.json');
     // the fit itself exits 3 (did not converge) but writes its result, which a user may then pass on
