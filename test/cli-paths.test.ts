@@ -11,40 +11,17 @@
  * half length 2 d (from memory).
  */
 import { describe, expect, it } from 'vitest';
-import { mkdtempSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
 import { cli } from './helpers/cli';
 
 const a = 3.6149;
 const d = a / Math.SQRT2;
-const cuCif = `data_Cu
-_cell_length_a ${a}
-_cell_length_b ${a}
-_cell_length_c ${a}
-_cell_angle_alpha 90
-_cell_angle_beta 90
-_cell_angle_gamma 90
-_symmetry_space_group_name_H-M 'P 1'
-loop_
-_atom_site_label
-_atom_site_type_symbol
-_atom_site_fract_x
-_atom_site_fract_y
-_atom_site_fract_z
-Cu1 Cu 0 0 0
-Cu2 Cu 0 0.5 0.5
-Cu3 Cu 0.5 0 0.5
-Cu4 Cu 0.5 0.5 0
-`;
 
 interface Row { id: string; legs: number; atoms: string[]; rEffective: number; degeneracy: number; legLengths: number[]; importance: number }
 
+/** fcc Cu in P 1 with a = 3.6149 Å, the fixture shared with the CIF reader tests. */
 function cuFile(): string {
-  const dir = mkdtempSync(join(tmpdir(), 'shellrank-paths-'));
-  const file = join(dir, 'cu.cif');
-  writeFileSync(file, cuCif);
-  return file;
+  return fileURLToPath(new URL('./fixtures/structures/cu-p1.cif', import.meta.url));
 }
 
 describe('shellrank paths', () => {
